@@ -6,4 +6,7 @@
 
 #![forbid(unsafe_code)]
 
+pub mod library;
+pub mod text;
 pub mod units;
+pub mod write;

@@ -13,8 +13,7 @@ mod typed;
 pub use format::{format_eng, format_number};
 pub use parse::{ParseOptions, UnitError, parse, parse_with};
 pub use typed::{
-    Amps, Celsius, Farads, Henries, Hertz, Joules, Kelvins, Lux, Ohms, Ratio, Seconds, Volts,
-    Watts,
+    Amps, Celsius, Farads, Henries, Hertz, Joules, Kelvins, Lux, Ohms, Ratio, Seconds, Volts, Watts,
 };
 
 use std::fmt;

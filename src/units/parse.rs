@@ -44,7 +44,9 @@ pub enum UnitError {
         expected: &'static str,
     },
     /// Something after the number that is neither a prefix nor a unit.
-    #[error("\"{text}\" is not a number (unknown unit or prefix \"{suffix}\"; expected {expected})")]
+    #[error(
+        "\"{text}\" is not a number (unknown unit or prefix \"{suffix}\"; expected {expected})"
+    )]
     UnknownUnit {
         /// The text as given.
         text: String,
@@ -105,8 +107,8 @@ pub fn parse_with(text: &str, expected: Dim, options: ParseOptions) -> Result<Qu
             text: trimmed.to_string(),
         });
     }
-    let mantissa = number_value(&trimmed[..scan.end], scan.comma)
-        .ok_or_else(|| not_a_number(trimmed))?;
+    let mantissa =
+        number_value(&trimmed[..scan.end], scan.comma).ok_or_else(|| not_a_number(trimmed))?;
     let rest = &trimmed[scan.end..];
 
     // The `4k7` / `4R7` / `4V7` style: a letter standing for the decimal point.
@@ -360,7 +362,9 @@ fn prefix_scale_char(letter: char) -> Option<f64> {
 /// 1/100 so that "10 %" holds 0.1.
 fn unit_scale(unit: &str, dim: Dim) -> Option<f64> {
     let spellings: &[&str] = match dim {
-        Dim::Volt => &["V", "v", "volt", "volts", "Vdc", "VDC", "Vac", "VAC", "Vrms", "V rms"],
+        Dim::Volt => &[
+            "V", "v", "volt", "volts", "Vdc", "VDC", "Vac", "VAC", "Vrms", "V rms",
+        ],
         Dim::Amp => &["A", "amp", "amps", "ampere", "amperes", "Adc", "Aac"],
         Dim::Ohm => &["Ω", "\u{2126}", "ohm", "ohms", "Ohm", "Ohms", "OHM", "R"],
         Dim::Watt => &["W", "watt", "watts"],

@@ -1,0 +1,131 @@
+//! The command line: raw arguments are turned into validated ones here, once, and each
+//! subcommand's `run` works on those. Output goes through [`Output`], which treats a closed
+//! pipe (`loadfit lint x.csv | head`) as a normal end.
+
+mod init;
+mod lint;
+
+use clap::{Parser, Subcommand};
+use loadfit::library::{Library, LoadError};
+use std::io::Write;
+use std::path::PathBuf;
+use std::process::ExitCode;
+use thiserror::Error;
+
+/// loadfit: compute what every part of a transistor switching stage needs, and rank the parts
+/// of your own CSV library against it.
+#[derive(Debug, Parser)]
+#[command(name = "loadfit", version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Option<Command>,
+    /// Parts library: a CSV file or a folder of them (repeatable). Default: the built-in demo.
+    #[arg(long, global = true)]
+    parts: Vec<PathBuf>,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// Check library files: rows loaded, rows rejected and why, values that look wrong.
+    Lint(lint::Args),
+    /// Write a starter library and an example stage file into a folder.
+    Init(init::Args),
+}
+
+/// An error that ends the run: printed as one line, exit code 2.
+#[derive(Debug, Error)]
+pub enum CliError {
+    /// A library could not be read.
+    #[error(transparent)]
+    Load(#[from] LoadError),
+    /// A file could not be written.
+    #[error(transparent)]
+    Write(#[from] loadfit::write::WriteError),
+    /// Writing to standard output failed (other than a closed pipe).
+    #[error("cannot write the output: {0}")]
+    Output(std::io::Error),
+}
+
+/// Standard output, buffered, with a closed pipe remembered rather than reported.
+pub struct Output {
+    out: std::io::BufWriter<std::io::StdoutLock<'static>>,
+    closed: bool,
+}
+
+impl Output {
+    fn new() -> Output {
+        Output {
+            out: std::io::BufWriter::new(std::io::stdout().lock()),
+            closed: false,
+        }
+    }
+
+    /// Writes one line.
+    ///
+    /// # Errors
+    /// [`CliError::Output`] on a write error other than a closed pipe.
+    pub fn line(&mut self, text: &str) -> Result<(), CliError> {
+        if self.closed {
+            return Ok(());
+        }
+        match writeln!(self.out, "{text}") {
+            Ok(()) => Ok(()),
+            Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {
+                self.closed = true;
+                Ok(())
+            }
+            Err(e) => Err(CliError::Output(e)),
+        }
+    }
+
+    fn finish(mut self) -> Result<(), CliError> {
+        match self.out.flush() {
+            Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe && !self.closed => {
+                Err(CliError::Output(e))
+            }
+            _ => Ok(()),
+        }
+    }
+}
+
+/// Parses the arguments, runs, and maps the outcome to an exit code.
+pub fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let mut out = Output::new();
+    let result = run(cli, &mut out).and_then(|code| out.finish().map(|()| code));
+    match result {
+        Ok(code) => ExitCode::from(code),
+        Err(error) => {
+            eprintln!("loadfit: {}", loadfit::text::clean(&error.to_string()));
+            ExitCode::from(2)
+        }
+    }
+}
+
+fn run(cli: Cli, out: &mut Output) -> Result<u8, CliError> {
+    match cli.command {
+        Some(Command::Lint(args)) => lint::run(&args, out),
+        Some(Command::Init(args)) => init::run(&args, out),
+        None => summary(&cli.parts, out),
+    }
+}
+
+/// The library named by `--parts`, or the built-in demo when none is given.
+///
+/// # Errors
+/// [`CliError::Load`] when a file cannot be read.
+pub fn load_parts(paths: &[PathBuf]) -> Result<Library, CliError> {
+    if paths.is_empty() {
+        Ok(Library::demo())
+    } else {
+        Ok(Library::load(paths)?)
+    }
+}
+
+/// With no subcommand: a summary of the library and what to run next.
+fn summary(parts: &[PathBuf], out: &mut Output) -> Result<u8, CliError> {
+    let library = load_parts(parts)?;
+    out.line(&loadfit::library::lint::summary(&library))?;
+    out.line("run `loadfit --help` for the commands; `loadfit lint PATH` checks a library")?;
+    Ok(0)
+}

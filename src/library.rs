@@ -1,0 +1,321 @@
+//! The parts library: the user's CSV file(s) read into typed parts, with a diagnostic for every
+//! row that cannot be used and a warning for every value that reads but looks wrong.
+//!
+//! loadfit never writes to a library file. See DESIGN.md section 3 for the format and
+//! [`columns`] for the known columns and their aliases.
+
+pub mod columns;
+pub mod lint;
+pub mod part;
+mod read;
+
+pub use part::{
+    Bjt, ContactForm, Diode, Kind, Mosfet, Part, Photocell, Rating, Ratings, Relay, Source, Status,
+    Sym,
+};
+
+use std::collections::HashMap;
+use std::hash::{Hash, Hasher};
+use std::path::{Path, PathBuf};
+use thiserror::Error;
+
+/// The built-in demo library (invented parts), embedded so `loadfit` runs with no files.
+pub const DEMO_CSV: &str = include_str!("../data/demo-parts.csv");
+
+/// The name the demo library's file is shown under.
+pub const DEMO_NAME: &str = "demo-parts.csv (built in)";
+
+/// Limits that keep a hostile file from exhausting memory. A cell or row past them is rejected
+/// with a message naming the limit.
+pub mod limits {
+    /// Largest cell, in bytes (64 KiB): far above any real rating or note.
+    pub const MAX_CELL_BYTES: usize = 64 * 1024;
+    /// Most columns a header may have.
+    pub const MAX_COLUMNS: usize = 4096;
+    /// Most diagnostics kept per file; the rest are counted, not stored.
+    pub const MAX_DIAGNOSTICS_PER_FILE: usize = 10_000;
+}
+
+/// One problem found while reading a library: where (file, line, column), the text and why.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Diagnostic {
+    /// Index into [`Library::files`].
+    pub file: u32,
+    /// 1-based line of the file as a spreadsheet numbers it (the header is line 1).
+    pub line: u32,
+    /// The column's header name as written in the file, or empty for a whole-row problem.
+    pub column: String,
+    /// The offending text, shortened to 200 characters.
+    pub text: String,
+    /// What is wrong and, where it helps, what to do.
+    pub message: String,
+}
+
+/// Why a library could not be read at all.
+#[derive(Debug, Error)]
+pub enum LoadError {
+    /// The file or folder could not be opened or read.
+    #[error("{path}: cannot read: {source}")]
+    Io {
+        /// The path given.
+        path: PathBuf,
+        /// The operating system's reason.
+        #[source]
+        source: std::io::Error,
+    },
+    /// The file has no bytes, or nothing but blank lines.
+    #[error("{path}: the file is empty; a library needs a header line and one row a part")]
+    Empty {
+        /// The file.
+        path: PathBuf,
+    },
+    /// The header lacks a required column.
+    #[error(
+        "{path}: line 1: no `{column}` column (found: {found}); add one, or rename the column holding it"
+    )]
+    MissingColumn {
+        /// The file.
+        path: PathBuf,
+        /// The required column (`part` or `kind`).
+        column: &'static str,
+        /// The header cells found, shortened.
+        found: String,
+    },
+    /// A folder holds no `*.csv` file.
+    #[error("{path}: the folder holds no .csv file")]
+    NoCsvInFolder {
+        /// The folder.
+        path: PathBuf,
+    },
+    /// More columns than [`limits::MAX_COLUMNS`].
+    #[error("{path}: line 1: {columns} columns, over the limit of {limit}; is this a parts list?")]
+    TooManyColumns {
+        /// The file.
+        path: PathBuf,
+        /// Columns found.
+        columns: usize,
+        /// The limit.
+        limit: usize,
+    },
+}
+
+/// The parts of one or more CSV files, with what went wrong reading them.
+#[derive(Debug, Default, Clone)]
+pub struct Library {
+    /// The parts, in file then row order.
+    pub parts: Vec<Part>,
+    /// The files read, as shown to the user.
+    pub files: Vec<String>,
+    /// Names of the columns loadfit does not know, across all files.
+    pub extra_columns: Vec<String>,
+    /// Rows that could not be used.
+    pub rejected: Vec<Diagnostic>,
+    /// Values that read but look wrong, and notes on the files.
+    pub warnings: Vec<Diagnostic>,
+    /// Data rows seen (blank lines not counted).
+    pub rows: usize,
+    /// Rows rejected (one row may give several diagnostics).
+    pub rows_rejected: usize,
+    /// Warnings and rejections seen per file, stored or not (see [`limits`]).
+    pub(crate) diagnostic_counts: Vec<[usize; 2]>,
+    strings: Vec<Box<str>>,
+    string_ids: HashMap<Box<str>, u32>,
+    index: HashMap<u64, u32>,
+    index_overflow: Vec<u32>,
+}
+
+impl Library {
+    /// An empty library.
+    #[must_use]
+    pub fn new() -> Library {
+        let mut library = Library::default();
+        library.intern("");
+        library
+    }
+
+    /// The built-in demo library.
+    #[must_use]
+    pub fn demo() -> Library {
+        let mut library = Library::new();
+        // The embedded demo has a `part` and a `kind` column and rows: the test
+        // `demo_library_loads_every_row` proves this read cannot fail.
+        read::read_bytes(&mut library, DEMO_NAME, DEMO_CSV.as_bytes())
+            .expect("the built-in demo library reads");
+        library
+    }
+
+    /// Reads the files named, each a CSV file or a folder of `*.csv` files (read in name order).
+    ///
+    /// # Errors
+    /// [`LoadError`] when a path cannot be read, a folder has no CSV file, or a file is empty or
+    /// lacks the `part` or `kind` column. Row-level problems are not errors: they are in
+    /// [`Library::rejected`] and [`Library::warnings`].
+    pub fn load<P: AsRef<Path>>(paths: &[P]) -> Result<Library, LoadError> {
+        let mut library = Library::new();
+        for path in paths {
+            library.add_path(path.as_ref())?;
+        }
+        Ok(library)
+    }
+
+    /// Reads one more file or folder into this library.
+    ///
+    /// # Errors
+    /// As [`Library::load`].
+    pub fn add_path(&mut self, path: &Path) -> Result<(), LoadError> {
+        let io = |source| LoadError::Io {
+            path: path.to_path_buf(),
+            source,
+        };
+        let meta = std::fs::metadata(path).map_err(io)?;
+        if meta.is_dir() {
+            let mut files: Vec<PathBuf> = std::fs::read_dir(path)
+                .map_err(io)?
+                .filter_map(Result::ok)
+                .map(|entry| entry.path())
+                .filter(|p| {
+                    p.is_file() && p.extension().is_some_and(|e| e.eq_ignore_ascii_case("csv"))
+                })
+                .collect();
+            files.sort();
+            if files.is_empty() {
+                return Err(LoadError::NoCsvInFolder {
+                    path: path.to_path_buf(),
+                });
+            }
+            for file in files {
+                self.add_file(&file)?;
+            }
+            Ok(())
+        } else {
+            self.add_file(path)
+        }
+    }
+
+    fn add_file(&mut self, path: &Path) -> Result<(), LoadError> {
+        let file = std::fs::File::open(path).map_err(|source| LoadError::Io {
+            path: path.to_path_buf(),
+            source,
+        })?;
+        let reader = std::io::BufReader::with_capacity(256 * 1024, file);
+        read::read_reader(self, &path.display().to_string(), reader).map_err(|e| e.at(path))
+    }
+
+    /// Reads CSV text held in memory, shown under `name`.
+    ///
+    /// # Errors
+    /// As [`Library::load`].
+    pub fn add_bytes(&mut self, name: &str, bytes: &[u8]) -> Result<(), LoadError> {
+        read::read_bytes(self, name, bytes).map_err(|e| e.at(Path::new(name)))
+    }
+
+    /// The text of an interned string (package, pinout, maker).
+    #[must_use]
+    pub fn text(&self, sym: Sym) -> &str {
+        self.strings.get(sym.0 as usize).map_or("", |s| s)
+    }
+
+    /// The part with this number (compared without regard to case or surrounding spaces).
+    #[must_use]
+    pub fn find(&self, number: &str) -> Option<&Part> {
+        let key = number.trim();
+        let hash = part_hash(key);
+        let matches = |&i: &u32| {
+            self.parts
+                .get(i as usize)
+                .filter(|p| p.number.eq_ignore_ascii_case(key))
+        };
+        self.index
+            .get(&hash)
+            .and_then(matches)
+            .or_else(|| self.index_overflow.iter().find_map(matches))
+    }
+
+    /// The file a part came from, as shown to the user.
+    #[must_use]
+    pub fn file_name(&self, source: Source) -> &str {
+        self.files.get(source.file as usize).map_or("", |s| s)
+    }
+
+    /// Number of parts of each kind, in [`Kind::ALL`] order, kinds with none left out.
+    #[must_use]
+    pub fn kind_counts(&self) -> Vec<(Kind, usize)> {
+        let mut counts = [0usize; Kind::ALL.len()];
+        for part in &self.parts {
+            counts[part.kind as usize] += 1;
+        }
+        Kind::ALL
+            .into_iter()
+            .zip(counts)
+            .filter(|&(_, n)| n > 0)
+            .collect()
+    }
+
+    /// The value of an unknown column for a part, by column name.
+    #[must_use]
+    pub fn extra<'a>(&'a self, part: &'a Part, column: &str) -> Option<&'a str> {
+        let id = self.extra_columns.iter().position(|c| c == column)? as u32;
+        part.extra
+            .iter()
+            .find(|(c, _)| *c == id)
+            .map(|(_, text)| &**text)
+    }
+
+    pub(crate) fn intern(&mut self, text: &str) -> Sym {
+        if let Some(&id) = self.string_ids.get(text) {
+            return Sym(id);
+        }
+        let id = self.strings.len() as u32;
+        self.strings.push(text.into());
+        self.string_ids.insert(text.into(), id);
+        Sym(id)
+    }
+
+    pub(crate) fn extra_column_id(&mut self, name: &str) -> u32 {
+        if let Some(i) = self.extra_columns.iter().position(|c| c == name) {
+            return i as u32;
+        }
+        self.extra_columns.push(name.to_string());
+        (self.extra_columns.len() - 1) as u32
+    }
+
+    /// Adds a part unless its number is taken; gives back the holder of the number otherwise.
+    pub(crate) fn push_part(&mut self, part: Part) -> Result<(), Source> {
+        if let Some(existing) = self.find(&part.number) {
+            return Err(existing.source);
+        }
+        let hash = part_hash(&part.number);
+        let id = self.parts.len() as u32;
+        match self.index.entry(hash) {
+            std::collections::hash_map::Entry::Vacant(slot) => {
+                slot.insert(id);
+            }
+            // A different number with the same hash: rare, kept in a short side list.
+            std::collections::hash_map::Entry::Occupied(_) => self.index_overflow.push(id),
+        }
+        self.parts.push(part);
+        Ok(())
+    }
+}
+
+/// A hash of a part number that ignores ASCII case.
+fn part_hash(number: &str) -> u64 {
+    let mut hasher = std::collections::hash_map::DefaultHasher::new();
+    for byte in number.bytes() {
+        byte.to_ascii_lowercase().hash(&mut hasher);
+    }
+    hasher.finish()
+}
+
+/// Shortens a text to at most 200 characters for a diagnostic, marking the cut.
+#[must_use]
+pub fn shorten(text: &str) -> String {
+    const MAX: usize = 200;
+    match text.char_indices().nth(MAX) {
+        Some((cut, _)) => format!("{}… ({} bytes in all)", &text[..cut], text.len()),
+        None => text.to_string(),
+    }
+}
+
+#[cfg(test)]
+mod tests;
