@@ -102,7 +102,15 @@ impl Kind {
     /// Reads a kind, accepting a few common spellings (`n-mosfet`, `rectifier`, `ldr`).
     #[must_use]
     pub fn from_text(text: &str) -> Option<Kind> {
-        let lower = text.trim().to_ascii_lowercase();
+        let trimmed = text.trim();
+        // The canonical names first, without allocating: this runs once a row.
+        if let Some(kind) = Kind::ALL
+            .into_iter()
+            .find(|k| k.name().eq_ignore_ascii_case(trimmed))
+        {
+            return Some(kind);
+        }
+        let lower = trimmed.to_ascii_lowercase();
         let squashed: String = lower
             .chars()
             .filter(|c| !matches!(c, ' ' | '-' | '_'))

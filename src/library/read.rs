@@ -653,8 +653,11 @@ fn swallowed_rows(
 }
 
 fn is_repeated_header(state: &FileState, record: &csv::ByteRecord) -> bool {
-    let part_cell = String::from_utf8_lossy(&record[state.part_column]);
-    if normalise_header(&part_cell).key != state.header_keys[state.part_column] {
+    // Cheap test first, without allocating: the part cell must repeat the header's text.
+    if !record[state.part_column]
+        .trim_ascii()
+        .eq_ignore_ascii_case(state.header[state.part_column].as_bytes())
+    {
         return false;
     }
     record
