@@ -38,3 +38,16 @@ fn the_library_does_not_use_terminal_crates() {
         }
     }
 }
+
+#[test]
+fn the_readme_lists_every_library_column() {
+    let readme =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    for spec in loadfit::library::columns::FIELDS {
+        assert!(
+            readme.contains(&format!("| `{}` |", spec.name)),
+            "README.md does not list the column `{}`",
+            spec.name
+        );
+    }
+}
