@@ -2,8 +2,11 @@
 //! subcommand's `run` works on those. Output goes through [`Output`], which treats a closed
 //! pipe (`loadfit lint x.csv | head`) as a normal end.
 
+mod fit;
 mod init;
 mod lint;
+mod needs;
+mod shortlist;
 
 use clap::{Parser, Subcommand};
 use loadfit::library::{Library, LoadError};
@@ -22,6 +25,9 @@ struct Cli {
     /// Parts library: a CSV file or a folder of them (repeatable). Default: the built-in demo.
     #[arg(long, global = true)]
     parts: Vec<PathBuf>,
+    /// Stage file to open in the workbench. Default: the built-in demo stage.
+    #[arg(long)]
+    stage: Option<PathBuf>,
 }
 
 #[derive(Debug, Subcommand)]
@@ -30,6 +36,12 @@ enum Command {
     Lint(lint::Args),
     /// Write a starter library and an example stage file into a folder.
     Init(init::Args),
+    /// Compute what every role of a stage needs, with the working behind each number.
+    Needs(needs::Args),
+    /// Hold every part of the library against the stage's needs and rank them per role.
+    Fit(fit::Args),
+    /// Write the best fit of each role and its alternates (CSV, Markdown or JSON).
+    Shortlist(shortlist::Args),
 }
 
 /// An error that ends the run: printed as one line, exit code 2.
@@ -41,6 +53,15 @@ pub enum CliError {
     /// A file could not be written.
     #[error(transparent)]
     Write(#[from] loadfit::write::WriteError),
+    /// A stage file could not be read.
+    #[error(transparent)]
+    Stage(#[from] loadfit::stage::StageError),
+    /// An export was refused or failed.
+    #[error(transparent)]
+    Export(#[from] loadfit::export::ExportError),
+    /// Arguments that parse but do not fit the input.
+    #[error("{0}")]
+    Usage(String),
     /// Writing to standard output failed (other than a closed pipe).
     #[error("cannot write the output: {0}")]
     Output(std::io::Error),
@@ -106,7 +127,10 @@ fn run(cli: Cli, out: &mut Output) -> Result<u8, CliError> {
     match cli.command {
         Some(Command::Lint(args)) => lint::run(&args, out),
         Some(Command::Init(args)) => init::run(&args, out),
-        None => summary(&cli.parts, out),
+        Some(Command::Needs(args)) => needs::run(&args, &cli.parts, out),
+        Some(Command::Fit(args)) => fit::run(&args, &cli.parts, out),
+        Some(Command::Shortlist(args)) => shortlist::run(&args, &cli.parts, out),
+        None => workbench(&cli.parts, cli.stage.as_deref(), out),
     }
 }
 
@@ -122,7 +146,43 @@ pub fn load_parts(paths: &[PathBuf]) -> Result<Library, CliError> {
     }
 }
 
-/// With no subcommand: a summary of the library and what to run next.
+/// With no subcommand: the workbench in a terminal, a summary of the library otherwise.
+fn workbench(
+    parts: &[PathBuf],
+    stage: Option<&std::path::Path>,
+    out: &mut Output,
+) -> Result<u8, CliError> {
+    use std::io::IsTerminal;
+    if !std::io::stdout().is_terminal() || !std::io::stdin().is_terminal() {
+        return summary(parts, out);
+    }
+    let library = load_parts(parts)?;
+    let (text, name) = match stage {
+        Some(path) => {
+            // Read through the stage module first, for its checks and messages.
+            loadfit::stage::Stage::read(path)?;
+            let text = std::fs::read_to_string(path).map_err(|source| {
+                CliError::Usage(format!("{}: cannot read: {source}", path.display()))
+            })?;
+            (text, path.display().to_string())
+        }
+        None => (
+            loadfit::tui::DEMO_STAGE.to_string(),
+            "demo stage".to_string(),
+        ),
+    };
+    let doc = loadfit::tui::fields::StageDoc::parse(&text, &name).map_err(CliError::Usage)?;
+    let app = loadfit::tui::app::App::new(
+        library,
+        parts.to_vec(),
+        doc,
+        stage.map(std::path::Path::to_path_buf),
+    );
+    loadfit::tui::run(app).map_err(CliError::Output)?;
+    Ok(0)
+}
+
+/// Without a terminal: a summary of the library and what to run next.
 fn summary(parts: &[PathBuf], out: &mut Output) -> Result<u8, CliError> {
     let library = load_parts(parts)?;
     out.line(&loadfit::library::lint::summary(&library))?;

@@ -6,7 +6,12 @@
 
 #![forbid(unsafe_code)]
 
+pub mod export;
+pub mod fit;
 pub mod library;
+pub mod needs;
+pub mod stage;
 pub mod text;
+pub mod tui;
 pub mod units;
 pub mod write;

@@ -1,0 +1,439 @@
+//! Fit: every part of a fitting kind held against every need of its role, with a verdict per
+//! check and per part, and a ranking that puts the right part on top and keeps the reason for
+//! every other part one look away.
+//!
+//! - [`checks`] holds one need against one rating (`pass`, `short` with its shortfall,
+//!   `unknown` when the rating is missing), per role;
+//! - [`rank`] scores and orders candidates (fits, near misses, unknown, short);
+//! - [`report`] renders a fit as text, CSV and the binding JSON.
+
+pub mod checks;
+pub mod rank;
+pub mod report;
+
+use crate::library::{Kind, Library, Part};
+use crate::needs::{Bound, Needs};
+use crate::stage::{ClampType, DriveSource, LoadType, Stage, SwitchType};
+use crate::units::Dim;
+use std::borrow::Cow;
+
+pub use rank::{SortKey, score};
+
+/// A part is `near` when exactly one check is short by at most this fraction (DESIGN.md: near
+/// miss, 10 %).
+pub const NEAR_MISS: f64 = 0.10;
+
+/// A place in the stage a part fills.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Role {
+    /// The transistor that switches the load.
+    Switch,
+    /// The diode across an inductive load.
+    Clamp,
+    /// The zener of a diode-plus-zener clamp.
+    Zener,
+    /// The relay of a relay load.
+    Relay,
+    /// The photocell of a photocell drive.
+    Sensor,
+}
+
+impl Role {
+    /// Every role, in report order.
+    pub const ALL: [Role; 5] = [
+        Role::Switch,
+        Role::Clamp,
+        Role::Zener,
+        Role::Relay,
+        Role::Sensor,
+    ];
+
+    /// The word used in outputs and need ids.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            Role::Switch => "switch",
+            Role::Clamp => "clamp",
+            Role::Zener => "zener",
+            Role::Relay => "relay",
+            Role::Sensor => "sensor",
+        }
+    }
+
+    /// Reads a role name.
+    #[must_use]
+    pub fn from_name(name: &str) -> Option<Role> {
+        Role::ALL
+            .into_iter()
+            .find(|r| r.name().eq_ignore_ascii_case(name.trim()))
+    }
+}
+
+/// The roles a stage has, in report order.
+#[must_use]
+pub fn roles(stage: &Stage) -> Vec<Role> {
+    let mut roles = vec![Role::Switch];
+    let coil = stage.load.kind.is_coil();
+    if coil && stage.clamp.kind != ClampType::None {
+        roles.push(Role::Clamp);
+        if stage.clamp.kind == ClampType::Zener {
+            roles.push(Role::Zener);
+        }
+    }
+    if stage.load.kind == LoadType::Relay {
+        roles.push(Role::Relay);
+    }
+    if stage.drive.source == DriveSource::Photocell || stage.sensor.is_some() {
+        roles.push(Role::Sensor);
+    }
+    roles
+}
+
+/// Whether a part of `kind` can fill `role` in this stage.
+#[must_use]
+pub fn kind_fits_role(stage: &Stage, role: Role, kind: Kind) -> bool {
+    match role {
+        Role::Switch => match stage.switch.kind {
+            SwitchType::Npn => kind == Kind::Npn,
+            SwitchType::Pnp => kind == Kind::Pnp,
+            SwitchType::Nmos => kind == Kind::Nmos,
+            SwitchType::Pmos => kind == Kind::Pmos,
+            // `any` is the usual low-side switch: an NPN or an N-MOSFET.
+            SwitchType::Any => matches!(kind, Kind::Npn | Kind::Nmos),
+        },
+        Role::Clamp => matches!(kind, Kind::Diode | Kind::Schottky),
+        Role::Zener => kind == Kind::Zener,
+        Role::Relay => kind == Kind::Relay,
+        Role::Sensor => kind == Kind::Photocell,
+    }
+}
+
+/// The verdict of one check.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum CheckVerdict {
+    /// The rating meets the need.
+    Pass,
+    /// The rating falls short of the need.
+    Short,
+    /// The library does not give the rating.
+    Unknown,
+}
+
+impl CheckVerdict {
+    /// The word used in outputs.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            CheckVerdict::Pass => "pass",
+            CheckVerdict::Short => "short",
+            CheckVerdict::Unknown => "unknown",
+        }
+    }
+
+    /// A glyph shown beside the word, so colour is never the only signal.
+    #[must_use]
+    pub fn glyph(self) -> &'static str {
+        match self {
+            CheckVerdict::Pass => "✓",
+            CheckVerdict::Short => "✗",
+            CheckVerdict::Unknown => "?",
+        }
+    }
+}
+
+/// One need held against one rating of one part.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Check {
+    /// The need's id (`switch.voltage`) or a part rule (`part.status`, `part.stock`,
+    /// `part.rohs`).
+    pub need: &'static str,
+    /// The rating's name (`vceo`, `derated pd`, `status`).
+    pub rating_name: &'static str,
+    /// The part's rating (SI), when known.
+    pub rating: Option<f64>,
+    /// What the need asks (SI), when it is a number.
+    pub required: Option<f64>,
+    /// The dimension of both (°C for a junction temperature, which no need has).
+    pub dim: Dim,
+    /// Which side the rating must fall on.
+    pub bound: Bound,
+    /// The verdict.
+    pub verdict: CheckVerdict,
+    /// rating / need for a lower bound, need / rating for an upper bound; ≥ 1 passes.
+    pub headroom: Option<f64>,
+    /// Why, in words, where there is more to say than the numbers.
+    pub note: Cow<'static, str>,
+}
+
+impl Check {
+    /// The shortfall of a short check as a fraction (0.05 is 5 % short).
+    #[must_use]
+    pub fn shortfall(&self) -> Option<f64> {
+        match self.verdict {
+            CheckVerdict::Short => Some(self.headroom.map_or(1.0, |h| (1.0 - h).clamp(0.0, 1.0))),
+            _ => None,
+        }
+    }
+}
+
+/// The verdict of a part over all its checks.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Verdict {
+    /// Every check passes.
+    Fits,
+    /// Exactly one check short, by at most 10 %; the rest pass.
+    Near,
+    /// Nothing short, at least one rating missing.
+    Unknown,
+    /// Anything else.
+    Short,
+}
+
+impl Verdict {
+    /// The word used in outputs.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            Verdict::Fits => "fits",
+            Verdict::Near => "near",
+            Verdict::Unknown => "unknown",
+            Verdict::Short => "short",
+        }
+    }
+
+    /// A glyph shown beside the word.
+    #[must_use]
+    pub fn glyph(self) -> &'static str {
+        match self {
+            Verdict::Fits => "✓",
+            Verdict::Near => "≈",
+            Verdict::Unknown => "?",
+            Verdict::Short => "✗",
+        }
+    }
+
+    /// The verdict of a set of checks (DESIGN.md: fit, near miss; `unknown` never counts as a
+    /// pass).
+    #[must_use]
+    pub fn of(checks: &[Check]) -> Verdict {
+        let shorts: Vec<&Check> = checks
+            .iter()
+            .filter(|c| c.verdict == CheckVerdict::Short)
+            .collect();
+        let unknown = checks.iter().any(|c| c.verdict == CheckVerdict::Unknown);
+        match shorts.as_slice() {
+            [] if !unknown => Verdict::Fits,
+            [] => Verdict::Unknown,
+            [one] if !unknown && one.shortfall().is_some_and(|s| s <= NEAR_MISS + 1e-12) => {
+                Verdict::Near
+            }
+            _ => Verdict::Short,
+        }
+    }
+}
+
+/// One part evaluated for a role.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Candidate {
+    /// Index of the part in [`Library::parts`].
+    pub part: usize,
+    /// The part's verdict.
+    pub verdict: Verdict,
+    /// Every check, in need order, then the part rules.
+    pub checks: Vec<Check>,
+    /// The ranking score (higher is better); see [`rank::score`].
+    pub score: f64,
+    /// The smallest headroom over the checks that have one.
+    pub headroom: Option<f64>,
+    /// 1-based position in the ranked list.
+    pub rank: usize,
+}
+
+impl Candidate {
+    /// The check with the smallest headroom, the one that limits this part.
+    #[must_use]
+    pub fn limiting(&self) -> Option<&Check> {
+        self.checks
+            .iter()
+            .filter(|c| c.verdict == CheckVerdict::Short)
+            .chain(
+                self.checks
+                    .iter()
+                    .filter(|c| c.verdict == CheckVerdict::Unknown),
+            )
+            .next()
+            .or_else(|| {
+                self.checks
+                    .iter()
+                    .filter(|c| c.headroom.is_some() && !c.need.starts_with("part."))
+                    .min_by(|a, b| {
+                        a.headroom
+                            .partial_cmp(&b.headroom)
+                            .unwrap_or(std::cmp::Ordering::Equal)
+                    })
+            })
+    }
+}
+
+/// The candidates of one role, ranked.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RoleFit {
+    /// The role.
+    pub role: Role,
+    /// The ids of the needs its parts are held against.
+    pub needs: Vec<&'static str>,
+    /// The candidates, ranked.
+    pub candidates: Vec<Candidate>,
+}
+
+impl RoleFit {
+    /// How many candidates fit.
+    #[must_use]
+    pub fn fits(&self) -> usize {
+        self.candidates
+            .iter()
+            .filter(|c| c.verdict == Verdict::Fits)
+            .count()
+    }
+}
+
+/// The fit of a whole stage.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Fit {
+    /// One entry per role of the stage.
+    pub roles: Vec<RoleFit>,
+}
+
+impl Fit {
+    /// The fit of one role.
+    #[must_use]
+    pub fn role(&self, role: Role) -> Option<&RoleFit> {
+        self.roles.iter().find(|r| r.role == role)
+    }
+
+    /// Whether every role has at least one fitting part.
+    #[must_use]
+    pub fn every_role_fits(&self) -> bool {
+        self.roles.iter().all(|r| r.fits() > 0)
+    }
+}
+
+/// Evaluates one part for one role; `None` when its kind cannot fill the role.
+#[must_use]
+pub fn evaluate_part(
+    stage: &Stage,
+    needs: &Needs,
+    library: &Library,
+    role: Role,
+    index: usize,
+) -> Option<Candidate> {
+    let part: &Part = library.parts.get(index)?;
+    if !kind_fits_role(stage, role, part.kind) {
+        return None;
+    }
+    let checks = checks::for_part(stage, needs, library, role, part);
+    let verdict = Verdict::of(&checks);
+    // Part rules (stock, status) are not ratings: a part's headroom is over its ratings only.
+    let headroom = checks
+        .iter()
+        .filter(|c| !c.need.starts_with("part."))
+        .filter_map(|c| c.headroom)
+        .fold(None, |acc: Option<f64>, h| {
+            Some(acc.map_or(h, |a| a.min(h)))
+        });
+    let mut candidate = Candidate {
+        part: index,
+        verdict,
+        checks,
+        score: 0.0,
+        headroom,
+        rank: 0,
+    };
+    candidate.score = score(part, &candidate);
+    Some(candidate)
+}
+
+/// Evaluates every part of the library for every role of the stage and ranks each role by
+/// `sort`.
+#[must_use]
+pub fn evaluate(stage: &Stage, needs: &Needs, library: &Library, sort: SortKey) -> Fit {
+    let roles = roles(stage)
+        .into_iter()
+        .map(|role| {
+            let mut candidates: Vec<Candidate> = (0..library.parts.len())
+                .filter_map(|i| evaluate_part(stage, needs, library, role, i))
+                .collect();
+            rank::rank(&mut candidates, library, sort);
+            // The needs this role's parts are held against, in the needs' order.
+            let needs_checked = needs
+                .needs
+                .iter()
+                .map(|n| n.id)
+                .filter(|id| {
+                    candidates
+                        .iter()
+                        .any(|c| c.checks.iter().any(|k| k.need == *id))
+                })
+                .collect();
+            RoleFit {
+                role,
+                needs: needs_checked,
+                candidates,
+            }
+        })
+        .collect();
+    Fit { roles }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn check(verdict: CheckVerdict, headroom: Option<f64>) -> Check {
+        Check {
+            need: "x.y",
+            rating_name: "r",
+            rating: None,
+            required: None,
+            dim: Dim::Volt,
+            bound: Bound::Min,
+            verdict,
+            headroom,
+            note: Cow::Borrowed(""),
+        }
+    }
+
+    /// DESIGN.md: fit = all pass; near = exactly one short by at most 10 %, the rest pass;
+    /// unknown = nothing short, something missing; short otherwise.
+    #[test]
+    fn verdicts_follow_the_design() {
+        use CheckVerdict::{Pass, Short, Unknown};
+        let pass = check(Pass, Some(1.5));
+        assert_eq!(Verdict::of(&[pass.clone(), pass.clone()]), Verdict::Fits);
+        assert_eq!(
+            Verdict::of(&[pass.clone(), check(Short, Some(0.95))]),
+            Verdict::Near
+        );
+        assert_eq!(
+            Verdict::of(&[pass.clone(), check(Short, Some(0.90))]),
+            Verdict::Near
+        );
+        assert_eq!(
+            Verdict::of(&[pass.clone(), check(Short, Some(0.80))]),
+            Verdict::Short
+        );
+        assert_eq!(
+            Verdict::of(&[check(Short, Some(0.95)), check(Short, Some(0.95))]),
+            Verdict::Short
+        );
+        assert_eq!(
+            Verdict::of(&[pass.clone(), check(Unknown, None)]),
+            Verdict::Unknown
+        );
+        assert_eq!(
+            Verdict::of(&[check(Short, Some(0.95)), check(Unknown, None)]),
+            Verdict::Short
+        );
+        assert_eq!(Verdict::of(&[check(Short, None)]), Verdict::Short);
+    }
+}

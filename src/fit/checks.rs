@@ -1,0 +1,778 @@
+//! The checks of each role: which rating of a part meets which need, and the figures a part
+//! brings itself (its own VCE(sat), RDS(on), coil resistance, photocell law).
+
+use super::{Check, CheckVerdict, Role};
+use crate::library::{Kind, Library, Part, Status};
+use crate::needs::{Bound, Needs, ids};
+use crate::needs::{photocell, thermal};
+use crate::stage::Stage;
+use crate::units::{Amps, Celsius, Ohms, Watts};
+use crate::units::{Dim, format_eng};
+use std::borrow::Cow;
+
+/// Junction temperature assumed when a part does not give `tj_max` (common practice for
+/// silicon small-signal and power parts).
+pub const DEFAULT_TJ_MAX: f64 = 150.0;
+
+/// The check id of the junction temperature TJ = Ta + P·RthJA against TJmax (a check of the
+/// `switch.power` need's dissipation, not a need of its own).
+pub const SWITCH_JUNCTION: &str = "switch.junction";
+
+/// A photocell's own switching light level may differ from the stage's `on_lux` by this much
+/// and still fit (issue 4: ±25 %).
+pub const ON_LUX_TOLERANCE: f64 = 0.25;
+
+/// A zener's VZ may differ from the stage's `zener_volts` by this much (common practice: the
+/// usual ±5 % VZ tolerance).
+pub const ZENER_TOLERANCE: f64 = 0.05;
+
+/// hFE quoted at a current below this fraction of the load current is flagged: gain falls at
+/// high collector current (common practice).
+pub const HFE_CURRENT_FRACTION: f64 = 0.5;
+
+/// Passing allows for rounding in the last bit (a rating equal to the need passes).
+const EPSILON: f64 = 1e-9;
+
+/// A rating that must be at least `required`.
+pub(crate) fn at_least(
+    need: &'static str,
+    rating_name: &'static str,
+    rating: Option<f64>,
+    required: Option<f64>,
+    dim: Dim,
+) -> Check {
+    compare(need, rating_name, rating, required, dim, Bound::Min)
+}
+
+/// A rating that must be at most `required`.
+pub(crate) fn at_most(
+    need: &'static str,
+    rating_name: &'static str,
+    rating: Option<f64>,
+    required: Option<f64>,
+    dim: Dim,
+) -> Check {
+    compare(need, rating_name, rating, required, dim, Bound::Max)
+}
+
+fn compare(
+    need: &'static str,
+    rating_name: &'static str,
+    rating: Option<f64>,
+    required: Option<f64>,
+    dim: Dim,
+    bound: Bound,
+) -> Check {
+    let mut check = Check {
+        need,
+        rating_name,
+        rating,
+        required,
+        dim,
+        bound,
+        verdict: CheckVerdict::Unknown,
+        headroom: None,
+        note: Cow::Borrowed(""),
+    };
+    let Some(required) = required else {
+        check.verdict = CheckVerdict::Short;
+        check.note = Cow::Borrowed("the need is not bounded: see the stage's problems");
+        return check;
+    };
+    let Some(value) = rating else {
+        check.note = Cow::Owned(format!("{rating_name} not given in the library"));
+        return check;
+    };
+    let headroom = match bound {
+        Bound::Max if value <= 0.0 => f64::INFINITY,
+        Bound::Max => required / value,
+        _ if required <= 0.0 => f64::INFINITY,
+        _ => value / required,
+    };
+    check.headroom = Some(headroom);
+    check.verdict = if headroom >= 1.0 - EPSILON {
+        CheckVerdict::Pass
+    } else {
+        CheckVerdict::Short
+    };
+    check
+}
+
+/// A figure that must be within `tolerance` of a target; headroom (1 + tol) / (1 + |dev|).
+pub(crate) fn within(
+    need: &'static str,
+    rating_name: &'static str,
+    value: Option<f64>,
+    target: Option<f64>,
+    tolerance: f64,
+    dim: Dim,
+) -> Check {
+    let mut check = compare(need, rating_name, value, target, dim, Bound::Value);
+    if let (Some(value), Some(target)) = (value, target)
+        && target != 0.0
+    {
+        let deviation = (value - target).abs() / target.abs();
+        let headroom = (1.0 + tolerance) / (1.0 + deviation);
+        check.headroom = Some(headroom);
+        check.verdict = if deviation <= tolerance + EPSILON {
+            CheckVerdict::Pass
+        } else {
+            CheckVerdict::Short
+        };
+        check.note = Cow::Owned(format!(
+            "{} from the target (within ±{:.0} % fits)",
+            signed_percent((value - target) / target),
+            tolerance * 100.0
+        ));
+    }
+    check
+}
+
+fn signed_percent(fraction: f64) -> String {
+    format!("{:+.1} %", fraction * 100.0)
+}
+
+fn with_note(mut check: Check, note: String) -> Check {
+    if check.note.is_empty() {
+        check.note = Cow::Owned(note);
+    } else {
+        check.note = Cow::Owned(format!("{}; {note}", check.note));
+    }
+    check
+}
+
+/// Every check of `part` for `role`, in need order, then the part rules.
+#[must_use]
+pub fn for_part(
+    stage: &Stage,
+    needs: &Needs,
+    library: &Library,
+    role: Role,
+    part: &Part,
+) -> Vec<Check> {
+    let mut checks = Vec::with_capacity(8);
+    match role {
+        Role::Switch => switch(stage, needs, part, &mut checks),
+        Role::Clamp => clamp(needs, part, &mut checks),
+        Role::Zener => zener(needs, part, &mut checks),
+        Role::Relay => relay(stage, needs, part, &mut checks),
+        Role::Sensor => sensor(stage, needs, part, &mut checks),
+    }
+    part_rules(stage, library, part, &mut checks);
+    checks
+}
+
+/// PD derated at the ambient with the part's TJmax (150 °C when not given): the derating of
+/// [`thermal::derated_pd`].
+fn derated(pd: f64, tj_max: Option<f64>, ambient: f64) -> f64 {
+    thermal::derated_pd(
+        Watts(pd),
+        Celsius(tj_max.unwrap_or(DEFAULT_TJ_MAX)),
+        Celsius(ambient),
+    )
+    .value()
+}
+
+fn power_checks(
+    stage: &Stage,
+    dissipation: Option<f64>,
+    pd: Option<f64>,
+    tj_max: Option<f64>,
+    rth_ja: Option<f64>,
+    how: String,
+    checks: &mut Vec<Check>,
+) {
+    let ambient = stage.rules.ambient.value();
+    let required = dissipation.map(|p| p / stage.rules.power_derating);
+    let derated = pd.map(|pd| derated(pd, tj_max, ambient));
+    let mut check = at_least(
+        ids::SWITCH_POWER,
+        "pd derated",
+        derated,
+        required,
+        Dim::Watt,
+    );
+    if let (Some(pd), Some(p)) = (pd, dissipation) {
+        check = with_note(
+            check,
+            format!(
+                "{how} = {}; pd {} derated to {} at {}{}",
+                format_eng(p, Dim::Watt),
+                format_eng(pd, Dim::Watt),
+                format_eng(derated.unwrap_or(pd), Dim::Watt),
+                format_eng(ambient, Dim::Celsius),
+                if tj_max.is_none() {
+                    " (tj_max not given: 150 °C assumed)"
+                } else {
+                    ""
+                }
+            ),
+        );
+    }
+    checks.push(check);
+    if let (Some(rth), Some(p)) = (rth_ja, dissipation) {
+        let tj = ambient + p * rth;
+        let limit = tj_max.unwrap_or(DEFAULT_TJ_MAX);
+        let mut check = at_least(
+            SWITCH_JUNCTION,
+            "tj_max",
+            Some(limit),
+            Some(tj),
+            Dim::Celsius,
+        );
+        // Headroom of a temperature is the allowed rise over the actual rise above ambient
+        // (a ratio of Celsius readings would mean nothing).
+        let rise = tj - ambient;
+        if rise > 0.0 {
+            check.headroom = Some((limit - ambient) / rise);
+        }
+        checks.push(with_note(
+            check,
+            format!(
+                "TJ = Ta + P·RthJA = {} + {} × {:.0} K/W = {}",
+                format_eng(ambient, Dim::Celsius),
+                format_eng(p, Dim::Watt),
+                rth,
+                format_eng(tj, Dim::Celsius)
+            ),
+        ));
+    }
+}
+
+fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+    let il = needs.value(ids::LOAD_CURRENT);
+    if let Some(b) = part.bjt() {
+        checks.push(at_least(
+            ids::SWITCH_VOLTAGE,
+            "vceo",
+            b.vceo.get(),
+            needs.value(ids::SWITCH_VOLTAGE),
+            Dim::Volt,
+        ));
+        checks.push(at_least(
+            ids::SWITCH_CURRENT,
+            "ic_max",
+            b.ic_max.get(),
+            needs.value(ids::SWITCH_CURRENT),
+            Dim::Amp,
+        ));
+        if needs.get(ids::SWITCH_GAIN).is_some() {
+            let mut gain = at_least(
+                ids::SWITCH_GAIN,
+                "hfe_min",
+                b.hfe_min.get(),
+                needs.value(ids::SWITCH_GAIN),
+                Dim::Number,
+            );
+            if let (Some(at), Some(il)) = (b.hfe_at_ic.get(), il)
+                && at < HFE_CURRENT_FRACTION * il
+            {
+                gain = with_note(
+                    gain,
+                    format!(
+                        "warning: hFE is given at {}, well below the {} load; gain falls at high current: check the curve",
+                        format_eng(at, Dim::Amp),
+                        format_eng(il, Dim::Amp)
+                    ),
+                );
+            }
+            checks.push(gain);
+        }
+        if let Some(il) = il {
+            let vce_sat = b.vce_sat.get().unwrap_or(stage.assume.vce_sat.value());
+            let base = base_current(stage, needs);
+            let p = vce_sat * il + stage.assume.vbe_on.value() * base;
+            let how = format!(
+                "P = VCE(sat)·IL + VBE·IB = {} × {} + {} × {}",
+                format_eng(vce_sat, Dim::Volt),
+                format_eng(il, Dim::Amp),
+                format_eng(stage.assume.vbe_on.value(), Dim::Volt),
+                format_eng(base, Dim::Amp)
+            );
+            power_checks(
+                stage,
+                Some(p),
+                b.pd.get(),
+                b.tj_max.get(),
+                b.rth_ja.get(),
+                how,
+                checks,
+            );
+        }
+    } else if let Some(m) = part.mosfet() {
+        checks.push(at_least(
+            ids::SWITCH_VOLTAGE,
+            "vds",
+            m.vds.get(),
+            needs.value(ids::SWITCH_VOLTAGE),
+            Dim::Volt,
+        ));
+        checks.push(at_least(
+            ids::SWITCH_CURRENT,
+            "id_max",
+            m.id_max.get(),
+            needs.value(ids::SWITCH_CURRENT),
+            Dim::Amp,
+        ));
+        if needs.get(ids::SWITCH_GATE_DRIVE).is_some() {
+            let mut gate = at_most(
+                ids::SWITCH_GATE_DRIVE,
+                "rds_on_vgs",
+                m.rds_on_vgs.get(),
+                needs.value(ids::SWITCH_GATE_DRIVE),
+                Dim::Volt,
+            );
+            if gate.verdict == CheckVerdict::Short {
+                gate = with_note(
+                    gate,
+                    "RDS(on) is not specified at a gate voltage the drive reaches".to_string(),
+                );
+            }
+            checks.push(gate);
+        }
+        if needs.get(ids::SWITCH_GATE_THRESHOLD).is_some() {
+            checks.push(at_most(
+                ids::SWITCH_GATE_THRESHOLD,
+                "vgs_th_max",
+                m.vgs_th_max.get(),
+                needs.value(ids::SWITCH_GATE_THRESHOLD),
+                Dim::Volt,
+            ));
+        }
+        if needs.get(ids::SWITCH_GATE_VOLTAGE).is_some() {
+            checks.push(at_least(
+                ids::SWITCH_GATE_VOLTAGE,
+                "vgs_max",
+                m.vgs_max.get(),
+                needs.value(ids::SWITCH_GATE_VOLTAGE),
+                Dim::Volt,
+            ));
+        }
+        if let Some(il) = il {
+            let p = m
+                .rds_on
+                .get()
+                .map(|r| thermal::mosfet_dissipation(Amps(il), Ohms(r)).value.value());
+            let how = format!(
+                "P = IL²·RDS(on)·1.5 (hot) = {}² × {} × 1.5",
+                format_eng(il, Dim::Amp),
+                m.rds_on
+                    .get()
+                    .map_or("?".to_string(), |r| format_eng(r, Dim::Ohm))
+            );
+            if p.is_none() {
+                let mut check =
+                    at_least(ids::SWITCH_POWER, "pd derated", None, Some(0.0), Dim::Watt);
+                check.note = Cow::Borrowed("rds_on not given: dissipation unknown");
+                checks.push(check);
+            } else {
+                power_checks(
+                    stage,
+                    p,
+                    m.pd.get(),
+                    m.tj_max.get(),
+                    m.rth_ja.get(),
+                    how,
+                    checks,
+                );
+            }
+        }
+    }
+}
+
+/// The base current the picked base resistor gives: (V_high − VBE) / RB, or the base-current
+/// need when no resistor was picked.
+fn base_current(stage: &Stage, needs: &Needs) -> f64 {
+    let drive = stage.drive.high.value() - stage.assume.vbe_on.value();
+    needs
+        .value(ids::SWITCH_BASE_RESISTOR)
+        .filter(|r| *r > 0.0)
+        .map(|r| drive / r)
+        .or_else(|| needs.value(ids::SWITCH_BASE_CURRENT))
+        .unwrap_or(0.0)
+        .max(0.0)
+}
+
+fn clamp(needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+    let Some(d) = part.diode() else { return };
+    checks.push(at_least(
+        ids::CLAMP_VOLTAGE,
+        "vrrm",
+        d.vrrm.get(),
+        needs.value(ids::CLAMP_VOLTAGE),
+        Dim::Volt,
+    ));
+    checks.push(at_least(
+        ids::CLAMP_CURRENT,
+        "if_avg",
+        d.if_avg.get(),
+        needs.value(ids::CLAMP_CURRENT),
+        Dim::Amp,
+    ));
+}
+
+fn zener(needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+    let Some(d) = part.diode() else { return };
+    checks.push(within(
+        ids::ZENER_VOLTAGE,
+        "vz",
+        d.vz.get(),
+        needs.value(ids::ZENER_VOLTAGE),
+        ZENER_TOLERANCE,
+        Dim::Volt,
+    ));
+}
+
+/// The coil current a relay's own coil draws in this stage: (Vs_max − V_sat) / coil_r.
+#[must_use]
+pub fn own_coil_current(stage: &Stage, part: &Part) -> Option<f64> {
+    let r = part.relay()?.coil_r.get().filter(|r| *r > 0.0)?;
+    Some((stage.supply.max().value() - stage.v_sat().value()) / r)
+}
+
+fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+    let Some(r) = part.relay() else { return };
+    let coil = own_coil_current(stage, part);
+    let mut coil_check = at_most(
+        ids::RELAY_COIL_CURRENT,
+        "coil current",
+        coil,
+        needs.value(ids::RELAY_COIL_CURRENT),
+        Dim::Amp,
+    );
+    if coil.is_some() {
+        coil_check = with_note(
+            coil_check,
+            format!(
+                "(Vs_max − V_sat) / coil_r = ({} − {}) / {}",
+                format_eng(stage.supply.max().value(), Dim::Volt),
+                format_eng(stage.v_sat().value(), Dim::Volt),
+                format_eng(r.coil_r.get().unwrap_or(0.0), Dim::Ohm)
+            ),
+        );
+    } else {
+        coil_check.note = Cow::Borrowed("coil_r not given: the coil current is unknown");
+    }
+    checks.push(coil_check);
+    checks.push(at_most(
+        ids::RELAY_OPERATE_VOLTAGE,
+        "must_operate_v",
+        r.must_operate_v.get(),
+        needs.value(ids::RELAY_OPERATE_VOLTAGE),
+        Dim::Volt,
+    ));
+    checks.push(at_least(
+        ids::RELAY_COIL_VOLTAGE_MAX,
+        "coil_v_max",
+        r.coil_v_max.get(),
+        needs.value(ids::RELAY_COIL_VOLTAGE_MAX),
+        Dim::Volt,
+    ));
+    let ac = stage.contacts.is_none_or(|c| c.ac);
+    let (v_name, v, a_name, a) = if ac {
+        (
+            "contact_v_ac",
+            r.contact_v_ac.get(),
+            "contact_a_ac",
+            r.contact_a_ac.get(),
+        )
+    } else {
+        (
+            "contact_v_dc",
+            r.contact_v_dc.get(),
+            "contact_a_dc",
+            r.contact_a_dc.get(),
+        )
+    };
+    if needs.get(ids::RELAY_CONTACT_VOLTAGE).is_some() {
+        checks.push(at_least(
+            ids::RELAY_CONTACT_VOLTAGE,
+            v_name,
+            v,
+            needs.value(ids::RELAY_CONTACT_VOLTAGE),
+            Dim::Volt,
+        ));
+    }
+    if needs.get(ids::RELAY_CONTACT_CURRENT).is_some() {
+        checks.push(at_least(
+            ids::RELAY_CONTACT_CURRENT,
+            a_name,
+            a,
+            needs.value(ids::RELAY_CONTACT_CURRENT),
+            Dim::Amp,
+        ));
+    }
+    if let Some(inrush) = needs.get(ids::RELAY_INRUSH) {
+        let mut check = at_least(
+            ids::RELAY_INRUSH,
+            "inrush_a",
+            r.inrush_a.get(),
+            inrush.value,
+            Dim::Amp,
+        );
+        // No inrush figure, but the continuous rating already covers the inrush need.
+        if r.inrush_a.get().is_none()
+            && let (Some(need), Some(rating)) = (inrush.value, a)
+            && rating >= need
+        {
+            check = at_least(
+                ids::RELAY_INRUSH,
+                a_name,
+                Some(rating),
+                Some(need),
+                Dim::Amp,
+            );
+            check.note = Cow::Borrowed("no inrush rating; the continuous contact rating covers it");
+        }
+        checks.push(check);
+    }
+    if needs.value(ids::RELAY_IMPULSE).is_some() {
+        checks.push(at_least(
+            ids::RELAY_IMPULSE,
+            "impulse_v",
+            r.impulse_v.get(),
+            needs.value(ids::RELAY_IMPULSE),
+            Dim::Volt,
+        ));
+    }
+    if needs.value(ids::RELAY_DIELECTRIC).is_some() {
+        checks.push(at_least(
+            ids::RELAY_DIELECTRIC,
+            "dielectric_v",
+            r.dielectric_v.get(),
+            needs.value(ids::RELAY_DIELECTRIC),
+            Dim::Volt,
+        ));
+    }
+}
+
+fn sensor(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+    let Some(p) = part.photocell() else { return };
+    checks.push(at_least(
+        ids::SENSOR_VOLTAGE,
+        "v_max",
+        p.v_max.get(),
+        needs.value(ids::SENSOR_VOLTAGE),
+        Dim::Volt,
+    ));
+    checks.push(at_least(
+        ids::SENSOR_POWER,
+        "p_max",
+        p.p_max.get(),
+        needs.value(ids::SENSOR_POWER),
+        Dim::Watt,
+    ));
+    if let Some(sensor) = &stage.sensor {
+        let own = match (
+            needs.value(ids::SENSOR_FIXED_RESISTOR),
+            p.r_10lux.get(),
+            p.gamma.get(),
+        ) {
+            (Some(fixed), Some(r10), Some(gamma))
+                if fixed > 0.0
+                    && r10 > 0.0
+                    && gamma > 0.0
+                    && stage.supply.volts.value() > sensor.threshold.value()
+                    && sensor.threshold.value() > 0.0 =>
+            {
+                let lux = photocell::switching_lux(
+                    sensor.activate,
+                    Ohms(fixed),
+                    stage.supply.volts,
+                    sensor.threshold,
+                    Ohms(r10),
+                    gamma,
+                )
+                .value
+                .value();
+                lux.is_finite().then_some(lux)
+            }
+            _ => None,
+        };
+        let mut check = within(
+            ids::SENSOR_ON_LUX,
+            "own on_lux",
+            own,
+            Some(sensor.on_lux.value()),
+            ON_LUX_TOLERANCE,
+            Dim::Lux,
+        );
+        if own.is_none() {
+            check.note = Cow::Borrowed(
+                "r_10lux or gamma not given: the part's own switching level is unknown",
+            );
+        } else {
+            check = with_note(
+                check,
+                format!(
+                    "this cell switches at {} with the stage's fixed resistor",
+                    format_eng(own.unwrap_or(0.0), Dim::Lux)
+                ),
+            );
+        }
+        checks.push(check);
+    }
+}
+
+/// A CdS photocell holds cadmium above the 0.01 % limit of EU RoHS (Directive 2011/65/EU,
+/// Annex II); the only photoresistor exemption (Annex III item 40) expired at the end of 2013.
+fn is_cadmium_cell(part: &Part) -> bool {
+    if part.kind != Kind::Photocell {
+        return false;
+    }
+    let text = format!("{} {}", part.notes, part.tags).to_ascii_lowercase();
+    (text.contains("cds") || text.contains("cadmium"))
+        && !text.contains("cadmium-free")
+        && !text.contains("cd-free")
+}
+
+fn part_rules(stage: &Stage, library: &Library, part: &Part, checks: &mut Vec<Check>) {
+    let rule = |need: &'static str,
+                rating_name: &'static str,
+                verdict: CheckVerdict,
+                note: Cow<'static, str>| Check {
+        need,
+        rating_name,
+        rating: None,
+        required: None,
+        dim: Dim::Number,
+        bound: Bound::Value,
+        verdict,
+        headroom: None,
+        note,
+    };
+    let _ = library;
+    let status = match part.status {
+        Status::Obsolete if !stage.rules.allow_obsolete => rule(
+            ids_part::STATUS,
+            "status",
+            CheckVerdict::Short,
+            Cow::Borrowed("obsolete; set rules.allow_obsolete = true to accept it"),
+        ),
+        Status::Obsolete => rule(
+            ids_part::STATUS,
+            "status",
+            CheckVerdict::Pass,
+            Cow::Borrowed("obsolete, allowed by the rules"),
+        ),
+        Status::Nrnd => rule(
+            ids_part::STATUS,
+            "status",
+            CheckVerdict::Pass,
+            Cow::Borrowed("not recommended for new designs"),
+        ),
+        Status::Active => rule(
+            ids_part::STATUS,
+            "status",
+            CheckVerdict::Pass,
+            Cow::Borrowed(""),
+        ),
+        Status::Unknown => rule(
+            ids_part::STATUS,
+            "status",
+            CheckVerdict::Pass,
+            Cow::Borrowed("status not given"),
+        ),
+    };
+    checks.push(status);
+    let quantity = f64::from(stage.rules.quantity.max(1));
+    let mut stock = at_least(
+        ids_part::STOCK,
+        "stock",
+        part.stock.map(|s| s as f64),
+        Some(quantity),
+        Dim::Number,
+    );
+    if stock.verdict == CheckVerdict::Short {
+        stock.note = Cow::Owned(format!(
+            "{} in stock, {} needed",
+            part.stock.unwrap_or(0),
+            quantity
+        ));
+    }
+    checks.push(stock);
+    if stage.rules.require_rohs {
+        let check = if is_cadmium_cell(part) {
+            rule(
+                ids_part::ROHS,
+                "rohs",
+                CheckVerdict::Short,
+                Cow::Borrowed(
+                    "CdS photocell: cadmium above 0.01 % (EU RoHS 2011/65/EU Annex II); the photoresistor exemption expired at the end of 2013",
+                ),
+            )
+        } else {
+            match part.rohs {
+                Some(true) => rule(
+                    ids_part::ROHS,
+                    "rohs",
+                    CheckVerdict::Pass,
+                    Cow::Borrowed(""),
+                ),
+                Some(false) => rule(
+                    ids_part::ROHS,
+                    "rohs",
+                    CheckVerdict::Short,
+                    Cow::Borrowed("not RoHS compliant"),
+                ),
+                None => rule(
+                    ids_part::ROHS,
+                    "rohs",
+                    CheckVerdict::Unknown,
+                    Cow::Borrowed("RoHS status not given"),
+                ),
+            }
+        };
+        checks.push(check);
+    } else if is_cadmium_cell(part) || (part.kind == Kind::Photocell && part.rohs == Some(false)) {
+        // Not a rule of this stage, but a purchaser must know.
+        if let Some(last) = checks.last_mut() {
+            let note = "note: a CdS photocell is not RoHS compliant (cadmium, 2011/65/EU Annex II)";
+            last.note = if last.note.is_empty() {
+                Cow::Borrowed(note)
+            } else {
+                Cow::Owned(format!("{}; {note}", last.note))
+            };
+        }
+    }
+}
+
+/// Ids of the part rules, which hold for every role.
+pub mod ids_part {
+    /// Production status: obsolete fails unless `rules.allow_obsolete`.
+    pub const STATUS: &str = "part.status";
+    /// Stock at least `rules.quantity`.
+    pub const STOCK: &str = "part.stock";
+    /// RoHS compliance when `rules.require_rohs`.
+    pub const ROHS: &str = "part.rohs";
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn compare_headroom_both_ways() {
+        let c = at_least("switch.voltage", "vceo", Some(40.0), Some(20.0), Dim::Volt);
+        assert_eq!((c.verdict, c.headroom), (CheckVerdict::Pass, Some(2.0)));
+        let c = at_most(
+            "switch.gate_drive",
+            "rds_on_vgs",
+            Some(10.0),
+            Some(3.3),
+            Dim::Volt,
+        );
+        assert_eq!(c.verdict, CheckVerdict::Short);
+        assert!((c.headroom.unwrap() - 0.33).abs() < 1e-12);
+        let c = at_least("switch.voltage", "vceo", None, Some(20.0), Dim::Volt);
+        assert_eq!(c.verdict, CheckVerdict::Unknown);
+        let c = at_least("switch.voltage", "vceo", Some(40.0), None, Dim::Volt);
+        assert_eq!(
+            c.verdict,
+            CheckVerdict::Short,
+            "an unbounded need fails every part"
+        );
+        let c = at_least("x.y", "r", Some(20.0), Some(20.0), Dim::Volt);
+        assert_eq!(c.verdict, CheckVerdict::Pass, "equal passes");
+    }
+}

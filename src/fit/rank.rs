@@ -1,0 +1,168 @@
+//! Ranking: fits first, then near misses, unknown and short; within a group by a sort key the
+//! user picks, ties broken by part number so the order is stable.
+//!
+//! The score is transparent and depends on the part alone (so adding a part never reorders the
+//! others). It starts at 100 and loses points for:
+//! - status: nrnd −15, not given −5, obsolete −30;
+//! - stock: none given −10, fewer than the quantity −10, fewer than ten times it −3;
+//! - price: 6·ln(1 + price) (0.10 costs 0.6, 1.00 costs 4.2, 10 costs 14.4), none given −8;
+//! - headroom (the smallest over the checks): a part should sit in the band 1.25–4 × its need;
+//!   below 1.25 it loses up to 20 (tight), above 4 it loses 5 per doubling, at most 20
+//!   (grossly oversized: dearer, bigger, slower).
+
+use super::{Candidate, Verdict};
+use crate::library::{Library, Part, Status};
+use std::cmp::Ordering;
+
+/// The lower edge of the headroom band a well-chosen part sits in.
+pub const BAND_LOW: f64 = 1.25;
+/// The upper edge of the headroom band.
+pub const BAND_HIGH: f64 = 4.0;
+
+/// What orders candidates within a verdict group.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]
+pub enum SortKey {
+    /// The score, highest first.
+    #[default]
+    Score,
+    /// Price, lowest first (missing last).
+    Price,
+    /// Smallest headroom, highest first.
+    Headroom,
+    /// Stock, highest first.
+    Stock,
+    /// Part number, A to Z.
+    Part,
+}
+
+impl SortKey {
+    /// Every key, in the order the workbench cycles them.
+    pub const ALL: [SortKey; 5] = [
+        SortKey::Score,
+        SortKey::Price,
+        SortKey::Headroom,
+        SortKey::Stock,
+        SortKey::Part,
+    ];
+
+    /// The word shown and accepted on the command line.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            SortKey::Score => "score",
+            SortKey::Price => "price",
+            SortKey::Headroom => "headroom",
+            SortKey::Stock => "stock",
+            SortKey::Part => "part",
+        }
+    }
+
+    /// The next key in [`SortKey::ALL`], wrapping.
+    #[must_use]
+    pub fn next(self) -> SortKey {
+        let i = SortKey::ALL.iter().position(|&k| k == self).unwrap_or(0);
+        SortKey::ALL[(i + 1) % SortKey::ALL.len()]
+    }
+}
+
+/// The points a part loses for its headroom `h` (see the module documentation).
+#[must_use]
+pub fn headroom_penalty(h: Option<f64>) -> f64 {
+    match h {
+        None => 0.0,
+        Some(h) if h < BAND_LOW => (20.0 * (BAND_LOW - h) / (BAND_LOW - 1.0)).min(20.0),
+        Some(h) if h > BAND_HIGH => (5.0 * (h / BAND_HIGH).log2()).min(20.0),
+        Some(_) => 0.0,
+    }
+}
+
+/// The score of a candidate (see the module documentation), rounded to 0.1.
+#[must_use]
+pub fn score(part: &Part, candidate: &Candidate) -> f64 {
+    let status = match part.status {
+        Status::Active => 0.0,
+        Status::Nrnd => 15.0,
+        Status::Unknown => 5.0,
+        Status::Obsolete => 30.0,
+    };
+    let quantity = candidate
+        .checks
+        .iter()
+        .find(|c| c.need == super::checks::ids_part::STOCK)
+        .and_then(|c| c.required)
+        .unwrap_or(1.0);
+    let stock = match part.stock {
+        None => 10.0,
+        Some(s) if (s as f64) < quantity => 10.0,
+        Some(s) if (s as f64) < 10.0 * quantity => 3.0,
+        Some(_) => 0.0,
+    };
+    let price = part.price.get().map_or(8.0, |p| 6.0 * p.max(0.0).ln_1p());
+    let raw = 100.0 - status - stock - price - headroom_penalty(candidate.headroom);
+    (raw * 10.0).round() / 10.0
+}
+
+fn group(verdict: Verdict) -> u8 {
+    match verdict {
+        Verdict::Fits => 0,
+        Verdict::Near => 1,
+        Verdict::Unknown => 2,
+        Verdict::Short => 3,
+    }
+}
+
+/// Orders two candidates: group, then the key, then part number.
+#[must_use]
+pub fn compare(library: &Library, a: &Candidate, b: &Candidate, key: SortKey) -> Ordering {
+    let pa = &library.parts[a.part];
+    let pb = &library.parts[b.part];
+    let by_float_desc = |x: Option<f64>, y: Option<f64>| match (x, y) {
+        (Some(x), Some(y)) => y.partial_cmp(&x).unwrap_or(Ordering::Equal),
+        (Some(_), None) => Ordering::Less,
+        (None, Some(_)) => Ordering::Greater,
+        (None, None) => Ordering::Equal,
+    };
+    let within = match key {
+        SortKey::Score => by_float_desc(Some(a.score), Some(b.score)),
+        SortKey::Price => by_float_desc(pa.price.get().map(|p| -p), pb.price.get().map(|p| -p)),
+        SortKey::Headroom => by_float_desc(a.headroom, b.headroom),
+        SortKey::Stock => by_float_desc(pa.stock.map(|s| s as f64), pb.stock.map(|s| s as f64)),
+        SortKey::Part => Ordering::Equal,
+    };
+    group(a.verdict)
+        .cmp(&group(b.verdict))
+        .then(within)
+        .then_with(|| pa.number.cmp(&pb.number))
+        .then(a.part.cmp(&b.part))
+}
+
+/// Sorts candidates in place and numbers their ranks from 1.
+pub fn rank(candidates: &mut [Candidate], library: &Library, key: SortKey) {
+    candidates.sort_by(|a, b| compare(library, a, b, key));
+    for (i, c) in candidates.iter_mut().enumerate() {
+        c.rank = i + 1;
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn headroom_band() {
+        assert_eq!(headroom_penalty(Some(2.0)), 0.0);
+        assert_eq!(headroom_penalty(Some(1.0)), 20.0);
+        assert!((headroom_penalty(Some(8.0)) - 5.0).abs() < 1e-12);
+        assert_eq!(headroom_penalty(Some(1e6)), 20.0);
+        assert_eq!(headroom_penalty(None), 0.0);
+    }
+
+    #[test]
+    fn sort_keys_cycle() {
+        let mut key = SortKey::Score;
+        for _ in 0..SortKey::ALL.len() {
+            key = key.next();
+        }
+        assert_eq!(key, SortKey::Score);
+    }
+}

@@ -1,0 +1,118 @@
+//! The workbench: a keyboard-driven terminal UI over stage, needs, parts and shortlist. The only
+//! module (with `main.rs`) that uses ratatui and crossterm.
+//!
+//! - [`app`]: the state and [`app::App::update`], the one place it changes;
+//! - [`action`]: what a key asks for; [`keymap`]: which key asks for it (and the help);
+//! - [`view`]: drawing, reading the state only; [`fields`]: the stage as editable fields.
+
+pub mod action;
+pub mod app;
+pub mod fields;
+pub mod keymap;
+pub mod view;
+
+use action::Action;
+use app::{App, Prompt};
+use crossterm::event::{self, Event, KeyCode, KeyEvent, KeyEventKind, KeyModifiers};
+use crossterm::{cursor, execute, terminal};
+use keymap::Scope;
+use std::io;
+use std::sync::Arc;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::Duration;
+
+/// The stage the workbench opens when none is given: an invented rain-tank pump through a relay.
+pub const DEMO_STAGE: &str = include_str!("../data/stages/mains-pump-relay.toml");
+
+/// The action a key press asks for in the app's present mode.
+#[must_use]
+pub fn action_for_key(app: &App, key: KeyEvent) -> Option<Action> {
+    if key.code == KeyCode::Char('c') && key.modifiers.contains(KeyModifiers::CONTROL) {
+        return Some(Action::Quit);
+    }
+    let confirming = matches!(
+        app.prompt,
+        Some(Prompt::ConfirmExport(_) | Prompt::ConfirmSave(_) | Prompt::ConfirmQuit)
+    );
+    if app.typing() || confirming {
+        return match key.code {
+            KeyCode::Char(c) if !key.modifiers.contains(KeyModifiers::CONTROL) => {
+                Some(Action::Type(c))
+            }
+            KeyCode::Backspace => Some(Action::Backspace),
+            KeyCode::Enter => Some(Action::Enter),
+            KeyCode::Esc => Some(Action::Back),
+            KeyCode::Up => Some(Action::Up),
+            KeyCode::Down => Some(Action::Down),
+            _ => None,
+        };
+    }
+    let scope = match app.panel {
+        app::Panel::Stage => Scope::Stage,
+        _ => Scope::Parts,
+    };
+    keymap::action_for(key, scope)
+}
+
+/// Puts the terminal back: raw mode off, main screen, cursor shown. Safe to call twice.
+pub fn restore_terminal() {
+    let _ = terminal::disable_raw_mode();
+    let _ = execute!(io::stdout(), terminal::LeaveAlternateScreen, cursor::Show);
+}
+
+/// Runs the workbench until the user quits or a SIGTERM, SIGHUP or SIGINT arrives; the terminal
+/// is restored on every way out, a panic included.
+///
+/// # Errors
+/// When the terminal cannot be set up or drawn to.
+pub fn run(mut app: App) -> io::Result<()> {
+    let stop = Arc::new(AtomicBool::new(false));
+    for signal in [
+        signal_hook::consts::SIGTERM,
+        signal_hook::consts::SIGHUP,
+        signal_hook::consts::SIGINT,
+    ] {
+        signal_hook::flag::register(signal, Arc::clone(&stop))?;
+    }
+    let previous = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        restore_terminal();
+        previous(info);
+    }));
+    terminal::enable_raw_mode()?;
+    execute!(io::stdout(), terminal::EnterAlternateScreen, cursor::Hide)?;
+    let result = event_loop(&mut app, &stop);
+    restore_terminal();
+    result
+}
+
+fn event_loop(app: &mut App, stop: &AtomicBool) -> io::Result<()> {
+    let backend = ratatui::backend::CrosstermBackend::new(io::stdout());
+    let mut terminal = ratatui::Terminal::new(backend)?;
+    let theme = view::Theme::from_env();
+    loop {
+        terminal.draw(|frame| {
+            app.page = frame.area().height.saturating_sub(6).max(1) as usize;
+            view::draw(frame, app, theme);
+        })?;
+        if stop.load(Ordering::Relaxed) || app.quit {
+            return Ok(());
+        }
+        if !event::poll(Duration::from_millis(200))? {
+            continue;
+        }
+        match event::read()? {
+            // Only presses act: terminals that report releases and repeats would act twice.
+            Event::Key(key) if key.kind == KeyEventKind::Press => {
+                if let Some(action) = action_for_key(app, key) {
+                    app.update(action);
+                }
+            }
+            Event::Resize(_, _) => terminal.autoresize()?,
+            _ => {}
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests;

@@ -1,0 +1,698 @@
+//! The workbench's state and the one place it changes: [`App::update`]. Views only read it.
+
+use super::action::Action;
+use super::fields::{FIELDS, FieldKind, StageDoc};
+use crate::export::{Context, Shortlist, is_library_file, write_shortlist};
+use crate::fit::{self, Candidate, Fit, SortKey, Verdict};
+use crate::library::Library;
+use crate::needs::{self, Needs};
+use crate::write::write_atomic;
+use fuzzy_matcher::FuzzyMatcher;
+use fuzzy_matcher::skim::SkimMatcherV2;
+use std::path::PathBuf;
+
+/// The panels, in Tab order.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Panel {
+    /// The stage's inputs, editable.
+    Stage,
+    /// The needs per role, with the working of the selected one.
+    Needs,
+    /// The candidates of the selected role.
+    Parts,
+    /// Every check of the selected part.
+    Detail,
+    /// The kept parts per role.
+    Shortlist,
+    /// Rows rejected and warnings from loading.
+    Library,
+}
+
+impl Panel {
+    /// Every panel in Tab order.
+    pub const ALL: [Panel; 6] = [
+        Panel::Stage,
+        Panel::Needs,
+        Panel::Parts,
+        Panel::Detail,
+        Panel::Shortlist,
+        Panel::Library,
+    ];
+
+    /// The panel's name as shown.
+    #[must_use]
+    pub fn title(self) -> &'static str {
+        match self {
+            Panel::Stage => "Stage",
+            Panel::Needs => "Needs",
+            Panel::Parts => "Parts",
+            Panel::Detail => "Detail",
+            Panel::Shortlist => "Shortlist",
+            Panel::Library => "Library",
+        }
+    }
+
+    fn index(self) -> usize {
+        Panel::ALL.iter().position(|&p| p == self).unwrap_or(0)
+    }
+}
+
+/// A question at the bottom of the screen that takes text or a yes/no.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Prompt {
+    /// Where to export the shortlist.
+    ExportPath(String),
+    /// Where to save the stage.
+    SavePath(String),
+    /// The export target exists: overwrite?
+    ConfirmExport(PathBuf),
+    /// The stage target exists: overwrite?
+    ConfirmSave(PathBuf),
+    /// Unsaved edits: quit anyway?
+    ConfirmQuit,
+}
+
+/// A Stage field being edited.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Editor {
+    /// Index into [`FIELDS`].
+    pub field: usize,
+    /// What has been typed.
+    pub buffer: String,
+}
+
+/// The fuzzy search of the Parts panel.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct Search {
+    /// What has been typed.
+    pub query: String,
+    /// Whether keys go to the query (false once Enter accepts it).
+    pub typing: bool,
+}
+
+/// The whole state of the workbench.
+pub struct App {
+    /// The parts library.
+    pub library: Library,
+    /// The library's paths (never written to).
+    pub library_paths: Vec<PathBuf>,
+    /// The stage as an editable document.
+    pub doc: StageDoc,
+    /// Where the stage came from, if a file.
+    pub stage_path: Option<PathBuf>,
+    /// Whether the stage has edits not saved.
+    pub dirty: bool,
+    /// The needs of the stage.
+    pub needs: Needs,
+    /// Every role's ranked candidates.
+    pub fit: Fit,
+    /// The focused panel.
+    pub panel: Panel,
+    /// Index into `fit.roles`.
+    pub role: usize,
+    /// Cursor in the Stage panel (index into [`FIELDS`]).
+    pub stage_cursor: usize,
+    /// A field being edited.
+    pub editor: Option<Editor>,
+    /// The last message about a field (why an entry was refused), with its field.
+    pub field_error: Option<(usize, String)>,
+    /// Cursor in the Needs panel.
+    pub needs_cursor: usize,
+    /// Cursor in the Parts panel (index into the visible list).
+    pub parts_cursor: usize,
+    /// Scroll of the Detail panel.
+    pub detail_scroll: usize,
+    /// Cursor in the Shortlist panel.
+    pub shortlist_cursor: usize,
+    /// Cursor in the Library panel.
+    pub library_cursor: usize,
+    /// Order within verdict groups.
+    pub sort: SortKey,
+    /// Hide parts that do not fit.
+    pub only_fits: bool,
+    /// The search, when one is active.
+    pub search: Option<Search>,
+    /// The parts kept.
+    pub shortlist: Shortlist,
+    /// A question waiting for an answer.
+    pub prompt: Option<Prompt>,
+    /// The help overlay is shown.
+    pub help: bool,
+    /// A one-line message for the status bar.
+    pub message: Option<String>,
+    /// The app should end.
+    pub quit: bool,
+    /// Rows a page moves (set from the terminal height by the view).
+    pub page: usize,
+    visible: Vec<usize>,
+    matcher: SkimMatcherV2,
+}
+
+impl App {
+    /// A workbench over `library` and the stage `doc`.
+    #[must_use]
+    pub fn new(
+        library: Library,
+        library_paths: Vec<PathBuf>,
+        doc: StageDoc,
+        stage_path: Option<PathBuf>,
+    ) -> App {
+        let mut app = App {
+            library,
+            library_paths,
+            doc,
+            stage_path,
+            dirty: false,
+            needs: Needs::default(),
+            fit: Fit { roles: Vec::new() },
+            panel: Panel::Stage,
+            role: 0,
+            stage_cursor: 1,
+            editor: None,
+            field_error: None,
+            needs_cursor: 0,
+            parts_cursor: 0,
+            detail_scroll: 0,
+            shortlist_cursor: 0,
+            library_cursor: 0,
+            sort: SortKey::Score,
+            only_fits: false,
+            search: None,
+            shortlist: Shortlist::default(),
+            prompt: None,
+            help: false,
+            message: None,
+            quit: false,
+            page: 10,
+            visible: Vec::new(),
+            matcher: SkimMatcherV2::default(),
+        };
+        app.recompute();
+        app
+    }
+
+    /// Needs, fit and the visible list again, after the stage or a view option changed.
+    pub fn recompute(&mut self) {
+        self.needs = needs::compute(&self.doc.stage, Some(&self.library));
+        self.fit = fit::evaluate(&self.doc.stage, &self.needs, &self.library, self.sort);
+        self.role = self.role.min(self.fit.roles.len().saturating_sub(1));
+        self.refilter();
+    }
+
+    /// The visible list of the Parts panel again (after a search or filter change).
+    pub fn refilter(&mut self) {
+        let Some(role) = self.fit.roles.get(self.role) else {
+            self.visible.clear();
+            return;
+        };
+        let query = self
+            .search
+            .as_ref()
+            .map(|s| s.query.trim().to_string())
+            .unwrap_or_default();
+        self.visible = role
+            .candidates
+            .iter()
+            .enumerate()
+            .filter(|(_, c)| !self.only_fits || c.verdict == Verdict::Fits)
+            .filter(|(_, c)| {
+                query.is_empty()
+                    || self
+                        .matcher
+                        .fuzzy_match(&search_text(&self.library, c.part), &query)
+                        .is_some()
+            })
+            .map(|(i, _)| i)
+            .collect();
+        self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
+    }
+
+    /// Indices into the selected role's candidates that the Parts panel shows.
+    #[must_use]
+    pub fn visible(&self) -> &[usize] {
+        &self.visible
+    }
+
+    /// The candidate under the Parts cursor.
+    #[must_use]
+    pub fn selected(&self) -> Option<&Candidate> {
+        let role = self.fit.roles.get(self.role)?;
+        role.candidates.get(*self.visible.get(self.parts_cursor)?)
+    }
+
+    /// Letter positions of the query in `text`, for highlighting.
+    #[must_use]
+    pub fn matched_letters(&self, text: &str) -> Vec<usize> {
+        match &self.search {
+            Some(s) if !s.query.trim().is_empty() => self
+                .matcher
+                .fuzzy_indices(text, s.query.trim())
+                .map(|(_, i)| i)
+                .unwrap_or_default(),
+            _ => Vec::new(),
+        }
+    }
+
+    /// The kept (role, part) pairs in display order.
+    #[must_use]
+    pub fn shortlist_rows(&self) -> Vec<(fit::Role, usize)> {
+        self.shortlist
+            .roles
+            .iter()
+            .flat_map(|(role, parts)| parts.iter().map(move |&p| (*role, p)))
+            .collect()
+    }
+
+    /// Whether keys go to a text buffer (a field, the search, a prompt).
+    #[must_use]
+    pub fn typing(&self) -> bool {
+        self.editor.is_some()
+            || self.search.as_ref().is_some_and(|s| s.typing)
+            || matches!(
+                self.prompt,
+                Some(Prompt::ExportPath(_) | Prompt::SavePath(_))
+            )
+    }
+
+    /// Carries out one action.
+    pub fn update(&mut self, action: Action) {
+        if self.prompt.is_some() {
+            self.update_prompt(action);
+            return;
+        }
+        if self.editor.is_some() {
+            self.update_editor(action);
+            return;
+        }
+        if self.search.as_ref().is_some_and(|s| s.typing) {
+            self.update_search(action);
+            return;
+        }
+        if self.help {
+            if matches!(action, Action::ToggleHelp | Action::Back | Action::Quit) {
+                self.help = false;
+            }
+            return;
+        }
+        self.message = None;
+        match action {
+            Action::NextPanel => {
+                self.focus(Panel::ALL[(self.panel.index() + 1) % Panel::ALL.len()])
+            }
+            Action::PrevPanel => self
+                .focus(Panel::ALL[(self.panel.index() + Panel::ALL.len() - 1) % Panel::ALL.len()]),
+            Action::Panel(i) => {
+                if let Some(&p) = Panel::ALL.get(i) {
+                    self.focus(p);
+                }
+            }
+            Action::Up => self.move_cursor(-1),
+            Action::Down => self.move_cursor(1),
+            Action::PageUp => self.move_cursor(-(self.page as isize)),
+            Action::PageDown => self.move_cursor(self.page as isize),
+            Action::Top => self.move_cursor(isize::MIN / 2),
+            Action::Bottom => self.move_cursor(isize::MAX / 2),
+            Action::Left | Action::Right => {
+                let forward = action == Action::Right;
+                if self.panel == Panel::Stage {
+                    self.cycle_field(forward);
+                } else {
+                    self.cycle_role(forward);
+                }
+            }
+            Action::Enter => match self.panel {
+                Panel::Stage => self.start_edit(),
+                Panel::Parts => self.focus(Panel::Detail),
+                Panel::Shortlist => {
+                    if let Some((role, part)) =
+                        self.shortlist_rows().get(self.shortlist_cursor).copied()
+                    {
+                        self.show_part(role, part);
+                    }
+                }
+                _ => {}
+            },
+            Action::Back => {
+                if self.search.is_some() {
+                    self.search = None;
+                    self.refilter();
+                } else if self.panel == Panel::Detail {
+                    self.focus(Panel::Parts);
+                }
+            }
+            Action::ToggleShortlist => self.toggle_shortlist(),
+            Action::StartSearch => {
+                self.focus(Panel::Parts);
+                let query = self.search.take().map(|s| s.query).unwrap_or_default();
+                self.search = Some(Search {
+                    query,
+                    typing: true,
+                });
+            }
+            Action::CycleSort => {
+                self.sort = self.sort.next();
+                self.recompute();
+                self.message = Some(format!("sorted by {}", self.sort.name()));
+            }
+            Action::ToggleOnlyFits => {
+                self.only_fits = !self.only_fits;
+                self.refilter();
+                self.message = Some(
+                    if self.only_fits {
+                        "showing fits only"
+                    } else {
+                        "showing every candidate"
+                    }
+                    .to_string(),
+                );
+            }
+            Action::StartExport => {
+                self.prompt = Some(Prompt::ExportPath("shortlist.md".to_string()))
+            }
+            Action::StartSave => {
+                let path = self
+                    .stage_path
+                    .as_ref()
+                    .map_or_else(|| "stage.toml".to_string(), |p| p.display().to_string());
+                self.prompt = Some(Prompt::SavePath(path));
+            }
+            Action::ToggleHelp => self.help = true,
+            Action::Quit => {
+                if self.dirty {
+                    self.prompt = Some(Prompt::ConfirmQuit);
+                } else {
+                    self.quit = true;
+                }
+            }
+            Action::Type(_) | Action::Backspace => {}
+        }
+    }
+
+    fn focus(&mut self, panel: Panel) {
+        self.panel = panel;
+        if panel == Panel::Detail {
+            self.detail_scroll = 0;
+        }
+    }
+
+    fn rows(&self) -> usize {
+        match self.panel {
+            Panel::Stage => FIELDS.len(),
+            Panel::Needs => self.needs.needs.len(),
+            Panel::Parts => self.visible.len(),
+            Panel::Detail => self.selected().map_or(0, |c| c.checks.len() + 12),
+            Panel::Shortlist => self.shortlist.len(),
+            Panel::Library => self.library.rejected.len() + self.library.warnings.len(),
+        }
+    }
+
+    fn move_cursor(&mut self, delta: isize) {
+        let rows = self.rows();
+        let cursor = match self.panel {
+            Panel::Stage => &mut self.stage_cursor,
+            Panel::Needs => &mut self.needs_cursor,
+            Panel::Parts => &mut self.parts_cursor,
+            Panel::Detail => &mut self.detail_scroll,
+            Panel::Shortlist => &mut self.shortlist_cursor,
+            Panel::Library => &mut self.library_cursor,
+        };
+        let last = rows.saturating_sub(1) as isize;
+        *cursor = (*cursor as isize)
+            .saturating_add(delta)
+            .clamp(0, last.max(0)) as usize;
+    }
+
+    fn cycle_role(&mut self, forward: bool) {
+        let n = self.fit.roles.len();
+        if n == 0 {
+            return;
+        }
+        self.role = if forward {
+            (self.role + 1) % n
+        } else {
+            (self.role + n - 1) % n
+        };
+        self.parts_cursor = 0;
+        self.refilter();
+    }
+
+    fn cycle_field(&mut self, forward: bool) {
+        let Some(field) = FIELDS.get(self.stage_cursor) else {
+            return;
+        };
+        let cycles = matches!(field.kind, FieldKind::Choice(_) | FieldKind::Bool)
+            || (field.kind == FieldKind::Integer && field.key == "overvoltage_category");
+        if !cycles {
+            return;
+        }
+        match self.doc.cycle(field, forward) {
+            Ok(()) => self.changed(),
+            Err(e) => self.field_error = Some((self.stage_cursor, e)),
+        }
+    }
+
+    fn start_edit(&mut self) {
+        let Some(field) = FIELDS.get(self.stage_cursor) else {
+            return;
+        };
+        if matches!(field.kind, FieldKind::Choice(_) | FieldKind::Bool) {
+            self.cycle_field(true);
+            return;
+        }
+        self.editor = Some(Editor {
+            field: self.stage_cursor,
+            buffer: self.doc.get(field).unwrap_or_default(),
+        });
+    }
+
+    fn changed(&mut self) {
+        self.dirty = true;
+        self.field_error = None;
+        self.recompute();
+    }
+
+    fn update_editor(&mut self, action: Action) {
+        let Some(editor) = self.editor.as_mut() else {
+            return;
+        };
+        match action {
+            Action::Type(c) => editor.buffer.push(c),
+            Action::Backspace => {
+                editor.buffer.pop();
+            }
+            Action::Back => {
+                self.editor = None;
+            }
+            Action::Enter => {
+                let editor = self.editor.take().unwrap_or(Editor {
+                    field: 0,
+                    buffer: String::new(),
+                });
+                let field = &FIELDS[editor.field.min(FIELDS.len() - 1)];
+                match self.doc.set(field, &editor.buffer) {
+                    Ok(()) => self.changed(),
+                    Err(e) => {
+                        self.field_error = Some((editor.field, e));
+                    }
+                }
+            }
+            _ => {}
+        }
+    }
+
+    fn update_search(&mut self, action: Action) {
+        let Some(search) = self.search.as_mut() else {
+            return;
+        };
+        match action {
+            Action::Type(c) => search.query.push(c),
+            Action::Backspace => {
+                search.query.pop();
+            }
+            Action::Enter => search.typing = false,
+            Action::Back => self.search = None,
+            Action::Up | Action::Down => {
+                search.typing = false;
+                self.refilter();
+                self.update(action);
+                return;
+            }
+            _ => return,
+        }
+        self.parts_cursor = 0;
+        self.refilter();
+    }
+
+    fn update_prompt(&mut self, action: Action) {
+        let Some(prompt) = self.prompt.as_mut() else {
+            return;
+        };
+        match prompt {
+            Prompt::ExportPath(buffer) | Prompt::SavePath(buffer) => match action {
+                Action::Type(c) => buffer.push(c),
+                Action::Backspace => {
+                    buffer.pop();
+                }
+                Action::Back => self.prompt = None,
+                Action::Enter => {
+                    let path = PathBuf::from(buffer.trim());
+                    let export = matches!(prompt, Prompt::ExportPath(_));
+                    self.prompt = None;
+                    if path.as_os_str().is_empty() {
+                        return;
+                    }
+                    if path.exists() {
+                        self.prompt = Some(if export {
+                            Prompt::ConfirmExport(path)
+                        } else {
+                            Prompt::ConfirmSave(path)
+                        });
+                    } else if export {
+                        self.export(&path, false);
+                    } else {
+                        self.save(&path, false);
+                    }
+                }
+                _ => {}
+            },
+            Prompt::ConfirmExport(_) | Prompt::ConfirmSave(_) | Prompt::ConfirmQuit => {
+                let yes = matches!(action, Action::Type('y' | 'Y'));
+                let no = matches!(action, Action::Type('n' | 'N') | Action::Back);
+                if !(yes || no) {
+                    return;
+                }
+                let prompt = self.prompt.take();
+                if yes {
+                    match prompt {
+                        Some(Prompt::ConfirmExport(path)) => self.export(&path, true),
+                        Some(Prompt::ConfirmSave(path)) => self.save(&path, true),
+                        Some(Prompt::ConfirmQuit) => self.quit = true,
+                        _ => {}
+                    }
+                }
+            }
+        }
+    }
+
+    fn protected(&self) -> Vec<PathBuf> {
+        let mut files = Vec::new();
+        for path in &self.library_paths {
+            if path.is_dir() {
+                if let Ok(entries) = std::fs::read_dir(path) {
+                    files.extend(entries.filter_map(Result::ok).map(|e| e.path()));
+                }
+            } else {
+                files.push(path.clone());
+            }
+        }
+        files
+    }
+
+    /// Writes the shortlist to `path` (format from the extension).
+    pub fn export(&mut self, path: &std::path::Path, overwrite: bool) {
+        let context = Context {
+            stage: &self.doc.stage,
+            needs: &self.needs,
+            library: &self.library,
+            fit: &self.fit,
+        };
+        let result = write_shortlist(
+            path,
+            &context,
+            &self.shortlist,
+            &self.protected(),
+            overwrite,
+        );
+        self.message = Some(match result {
+            Ok(()) => format!(
+                "exported {} parts to {}",
+                self.shortlist.len(),
+                path.display()
+            ),
+            Err(e) => format!("not exported: {e}"),
+        });
+    }
+
+    /// Writes the stage to `path`.
+    pub fn save(&mut self, path: &std::path::Path, overwrite: bool) {
+        if is_library_file(path, &self.protected()) {
+            self.message = Some(format!("not saved: {} is a library file", path.display()));
+            return;
+        }
+        let text = format!("# stage saved by loadfit\n{}", self.doc.to_text());
+        self.message = Some(match write_atomic(path, text.as_bytes(), overwrite) {
+            Ok(()) => {
+                self.dirty = false;
+                self.stage_path = Some(path.to_path_buf());
+                format!("saved {}", path.display())
+            }
+            Err(e) => format!("not saved: {e}"),
+        });
+    }
+
+    fn toggle_shortlist(&mut self) {
+        let (role, part) = match self.panel {
+            Panel::Shortlist => match self.shortlist_rows().get(self.shortlist_cursor) {
+                Some(&pair) => pair,
+                None => return,
+            },
+            _ => {
+                let Some(role) = self.fit.roles.get(self.role) else {
+                    return;
+                };
+                let Some(candidate) = self.selected() else {
+                    return;
+                };
+                (role.role, candidate.part)
+            }
+        };
+        let kept = self.shortlist.toggle(role, part);
+        let number = self
+            .library
+            .parts
+            .get(part)
+            .map_or("", |p| &p.number)
+            .to_string();
+        self.message = Some(format!(
+            "{} {number} {} {}",
+            if kept { "kept" } else { "dropped" },
+            if kept { "for" } else { "from" },
+            role.name()
+        ));
+        self.shortlist_cursor = self
+            .shortlist_cursor
+            .min(self.shortlist.len().saturating_sub(1));
+    }
+
+    fn show_part(&mut self, role: fit::Role, part: usize) {
+        if let Some(i) = self.fit.roles.iter().position(|r| r.role == role) {
+            self.role = i;
+            self.search = None;
+            self.only_fits = false;
+            self.refilter();
+            if let Some(at) = self
+                .visible
+                .iter()
+                .position(|&c| self.fit.roles[i].candidates[c].part == part)
+            {
+                self.parts_cursor = at;
+            }
+            self.focus(Panel::Detail);
+        }
+    }
+}
+
+/// The text a part is searched by: number, maker, package, notes and tags.
+#[must_use]
+pub fn search_text(library: &Library, part: usize) -> String {
+    library.parts.get(part).map_or_else(String::new, |p| {
+        format!(
+            "{} {} {} {} {}",
+            p.number,
+            library.text(p.maker),
+            library.text(p.package),
+            p.notes,
+            p.tags
+        )
+    })
+}

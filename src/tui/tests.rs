@@ -1,0 +1,233 @@
+//! Whole-app snapshots of every panel (insta, `TestBackend`) and action-level tests.
+
+use super::action::Action;
+use super::app::{App, Panel};
+use super::fields::{FIELDS, StageDoc};
+use super::view::{self, Theme};
+use crate::fit::Verdict;
+use crate::library::Library;
+use ratatui::Terminal;
+use ratatui::backend::TestBackend;
+
+fn demo_app() -> App {
+    let doc = StageDoc::parse(super::DEMO_STAGE, "mains-pump-relay.toml").unwrap();
+    App::new(Library::demo(), Vec::new(), doc, None)
+}
+
+fn render(app: &App, width: u16, height: u16) -> String {
+    let mut terminal = Terminal::new(TestBackend::new(width, height)).unwrap();
+    terminal
+        .draw(|frame| view::draw(frame, app, Theme { color: false }))
+        .unwrap();
+    terminal.backend().to_string()
+}
+
+fn field_index(path: &str) -> usize {
+    FIELDS.iter().position(|f| f.path() == path).unwrap()
+}
+
+#[test]
+fn snapshot_every_panel() {
+    let mut app = demo_app();
+    for (i, panel) in Panel::ALL.into_iter().enumerate() {
+        app.update(Action::Panel(i));
+        assert_eq!(app.panel, panel);
+        insta::assert_snapshot!(
+            format!("panel_{}", panel.title().to_lowercase()),
+            render(&app, 120, 32)
+        );
+    }
+}
+
+#[test]
+fn snapshot_help_and_too_small() {
+    let mut app = demo_app();
+    app.update(Action::ToggleHelp);
+    insta::assert_snapshot!("help_overlay", render(&app, 120, 40));
+    app.update(Action::Back);
+    assert!(!app.help);
+    insta::assert_snapshot!("too_small", render(&app, 60, 20));
+}
+
+#[test]
+fn snapshot_shortlist_with_picks_and_search() {
+    let mut app = demo_app();
+    app.update(Action::Panel(2));
+    app.update(Action::ToggleShortlist);
+    app.update(Action::Down);
+    app.update(Action::ToggleShortlist);
+    app.update(Action::Right);
+    app.update(Action::ToggleShortlist);
+    app.update(Action::Panel(4));
+    insta::assert_snapshot!("shortlist_with_picks", render(&app, 120, 32));
+    app.update(Action::StartSearch);
+    for c in "BRN".chars() {
+        app.update(Action::Type(c));
+    }
+    insta::assert_snapshot!("parts_search", render(&app, 120, 32));
+}
+
+#[test]
+fn editing_the_supply_changes_a_need_and_a_verdict() {
+    let mut app = demo_app();
+    let before = app.needs.value("switch.voltage").unwrap();
+    let verdicts = |app: &App| -> Vec<Verdict> {
+        app.fit.roles[0]
+            .candidates
+            .iter()
+            .map(|c| c.verdict)
+            .collect()
+    };
+    let old = verdicts(&app);
+    app.stage_cursor = field_index("supply.volts");
+    app.update(Action::Enter);
+    for _ in 0..10 {
+        app.update(Action::Backspace);
+    }
+    for c in "48 V".chars() {
+        app.update(Action::Type(c));
+    }
+    app.update(Action::Enter);
+    let after = app.needs.value("switch.voltage").unwrap();
+    // (48 V × 1.1 + VF 0.8 V) / 0.8 against (12 V × 1.1 + 0.8 V) / 0.8: 67 V against 17.5 V.
+    assert!(
+        (after - 67.0).abs() < 1e-9 && (before - 17.5).abs() < 1e-9,
+        "{before} -> {after}"
+    );
+    assert_ne!(
+        verdicts(&app),
+        old,
+        "some verdict changes with a 48 V supply"
+    );
+    assert!(app.dirty);
+}
+
+#[test]
+fn an_invalid_entry_keeps_the_old_value_and_says_why() {
+    let mut app = demo_app();
+    app.stage_cursor = field_index("supply.volts");
+    app.update(Action::Enter);
+    for _ in 0..10 {
+        app.update(Action::Backspace);
+    }
+    for c in "12 A".chars() {
+        app.update(Action::Type(c));
+    }
+    app.update(Action::Enter);
+    assert_eq!(app.doc.stage.supply.volts.value(), 12.0);
+    let (at, message) = app.field_error.clone().unwrap();
+    assert_eq!(at, field_index("supply.volts"));
+    assert!(message.contains("12 A"), "{message}");
+    assert!(!app.dirty);
+    assert!(render(&app, 120, 32).contains("✗"));
+}
+
+#[test]
+fn choices_cycle_with_the_arrows() {
+    let mut app = demo_app();
+    app.stage_cursor = field_index("clamp.type");
+    // A zener clamp needs its voltage first: the stage refuses, the diode stays, and says why.
+    app.update(Action::Right);
+    assert_eq!(
+        app.doc.get(&FIELDS[app.stage_cursor]).as_deref(),
+        Some("diode")
+    );
+    assert!(
+        app.field_error
+            .as_ref()
+            .is_some_and(|(_, m)| m.contains("zener_volts")),
+        "{:?}",
+        app.field_error
+    );
+    app.doc
+        .set(&FIELDS[field_index("clamp.zener_volts")], "24 V")
+        .unwrap();
+    app.update(Action::Right);
+    assert_eq!(
+        app.doc.get(&FIELDS[app.stage_cursor]).as_deref(),
+        Some("zener")
+    );
+    assert!(
+        app.fit
+            .roles
+            .iter()
+            .any(|r| r.role == crate::fit::Role::Zener)
+    );
+}
+
+#[test]
+fn search_narrows_the_table() {
+    let mut app = demo_app();
+    app.update(Action::Panel(2));
+    let all = app.visible().len();
+    app.update(Action::StartSearch);
+    for c in "BRN22".chars() {
+        app.update(Action::Type(c));
+    }
+    let narrowed = app.visible().len();
+    assert!(narrowed > 0 && narrowed < all, "{all} -> {narrowed}");
+    app.update(Action::Back);
+    assert_eq!(app.visible().len(), all);
+}
+
+#[test]
+fn shortlist_then_export_writes_the_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut app = demo_app();
+    app.update(Action::Panel(2));
+    app.update(Action::ToggleShortlist);
+    let kept = app.library.parts[app.shortlist.roles[0].1[0]]
+        .number
+        .to_string();
+    let path = dir.path().join("picks.csv");
+    app.update(Action::StartExport);
+    for _ in 0..20 {
+        app.update(Action::Backspace);
+    }
+    for c in path.display().to_string().chars() {
+        app.update(Action::Type(c));
+    }
+    app.update(Action::Enter);
+    let text = std::fs::read_to_string(&path).unwrap();
+    assert!(text.contains(&kept), "{text}");
+    // A second export asks before overwriting.
+    app.update(Action::StartExport);
+    for _ in 0..200 {
+        app.update(Action::Backspace);
+    }
+    for c in path.display().to_string().chars() {
+        app.update(Action::Type(c));
+    }
+    app.update(Action::Enter);
+    assert!(matches!(
+        app.prompt,
+        Some(super::app::Prompt::ConfirmExport(_))
+    ));
+    app.update(Action::Type('n'));
+    assert!(app.prompt.is_none());
+}
+
+#[test]
+fn quitting_with_unsaved_edits_asks_first() {
+    let mut app = demo_app();
+    app.stage_cursor = field_index("rules.require_rohs");
+    app.update(Action::Right);
+    assert!(app.dirty);
+    app.update(Action::Quit);
+    assert!(!app.quit);
+    app.update(Action::Type('y'));
+    assert!(app.quit);
+}
+
+#[test]
+fn saving_the_stage_writes_a_file_that_reads_back() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("edited.toml");
+    let mut app = demo_app();
+    app.stage_cursor = field_index("rules.require_rohs");
+    app.update(Action::Right);
+    app.save(&path, false);
+    assert!(!app.dirty, "{:?}", app.message);
+    let stage = crate::stage::Stage::read(&path).unwrap();
+    assert!(stage.rules.require_rohs);
+}

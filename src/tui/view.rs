@@ -1,0 +1,830 @@
+//! Drawing the workbench. Views only read the [`App`]; the layout is split once per frame into
+//! named areas. Every verdict is shown with a word or glyph as well as colour, and colour is
+//! left out entirely when `NO_COLOR` is set.
+
+use super::app::{App, Panel, Prompt};
+use super::fields::{FIELDS, FieldKind};
+use super::keymap::help_lines;
+use crate::fit::report::{check_line, reason};
+use crate::fit::{CheckVerdict, Verdict};
+use crate::library::{Kind, Part};
+use crate::text::clean;
+use crate::units::{Dim, format_eng};
+use ratatui::Frame;
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::style::{Color, Modifier, Style};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Block, Borders, Cell, Clear, Paragraph, Row, Table, Wrap};
+
+/// The smallest terminal the layout is drawn in.
+pub const MIN_WIDTH: u16 = 80;
+/// The smallest terminal height.
+pub const MIN_HEIGHT: u16 = 24;
+
+/// Colours, or none.
+#[derive(Debug, Clone, Copy)]
+pub struct Theme {
+    /// Whether colour is used (false under `NO_COLOR`).
+    pub color: bool,
+}
+
+impl Theme {
+    /// Colour unless the `NO_COLOR` environment variable is set and not empty.
+    #[must_use]
+    pub fn from_env() -> Theme {
+        Theme {
+            color: std::env::var_os("NO_COLOR").is_none_or(|v| v.is_empty()),
+        }
+    }
+
+    fn fg(self, color: Color) -> Style {
+        if self.color {
+            Style::new().fg(color)
+        } else {
+            Style::new()
+        }
+    }
+
+    fn verdict(self, verdict: Verdict) -> Style {
+        self.fg(match verdict {
+            Verdict::Fits => Color::Green,
+            Verdict::Near => Color::Yellow,
+            Verdict::Unknown => Color::Cyan,
+            Verdict::Short => Color::Red,
+        })
+    }
+
+    fn check(self, verdict: CheckVerdict) -> Style {
+        self.fg(match verdict {
+            CheckVerdict::Pass => Color::Green,
+            CheckVerdict::Short => Color::Red,
+            CheckVerdict::Unknown => Color::Cyan,
+        })
+    }
+
+    fn dim(self) -> Style {
+        if self.color {
+            Style::new().fg(Color::DarkGray)
+        } else {
+            Style::new().add_modifier(Modifier::DIM)
+        }
+    }
+
+    fn selected(self) -> Style {
+        Style::new().add_modifier(Modifier::REVERSED)
+    }
+
+    fn focus(self) -> Style {
+        self.fg(Color::Yellow).add_modifier(Modifier::BOLD)
+    }
+}
+
+/// The named areas of one frame.
+struct Areas {
+    tabs: Rect,
+    left: Rect,
+    right: Rect,
+    status: Rect,
+    bottom: Rect,
+}
+
+fn split(area: Rect, panel: Panel) -> Areas {
+    let [tabs, body, status, bottom] = Layout::vertical([
+        Constraint::Length(1),
+        Constraint::Min(0),
+        Constraint::Length(1),
+        Constraint::Length(1),
+    ])
+    .areas(area);
+    let ratio = match panel {
+        Panel::Stage => [Constraint::Percentage(50), Constraint::Percentage(50)],
+        Panel::Needs => [Constraint::Percentage(45), Constraint::Percentage(55)],
+        Panel::Parts | Panel::Detail => [Constraint::Percentage(66), Constraint::Percentage(34)],
+        Panel::Shortlist => [Constraint::Percentage(55), Constraint::Percentage(45)],
+        Panel::Library => [Constraint::Percentage(100), Constraint::Percentage(0)],
+    };
+    let [left, right] = Layout::horizontal(ratio).areas(body);
+    Areas {
+        tabs,
+        left,
+        right,
+        status,
+        bottom,
+    }
+}
+
+/// Draws the whole workbench.
+pub fn draw(frame: &mut Frame<'_>, app: &App, theme: Theme) {
+    let area = frame.area();
+    if area.width < MIN_WIDTH || area.height < MIN_HEIGHT {
+        let text = vec![
+            Line::from("terminal too small"),
+            Line::from(format!(
+                "loadfit needs {MIN_WIDTH}×{MIN_HEIGHT}; this one is {}×{}",
+                area.width, area.height
+            )),
+            Line::from("enlarge the window, or press q to quit"),
+        ];
+        frame.render_widget(Paragraph::new(text).wrap(Wrap { trim: true }), area);
+        return;
+    }
+    let areas = split(area, app.panel);
+    tabs(frame, app, theme, areas.tabs);
+    match app.panel {
+        Panel::Stage => {
+            stage(frame, app, theme, areas.left, true);
+            needs_list(frame, app, theme, areas.right, false);
+        }
+        Panel::Needs => {
+            needs_list(frame, app, theme, areas.left, true);
+            working(frame, app, theme, areas.right);
+        }
+        Panel::Parts => {
+            parts(frame, app, theme, areas.left, true);
+            detail(frame, app, theme, areas.right, false);
+        }
+        Panel::Detail => {
+            parts(frame, app, theme, areas.left, false);
+            detail(frame, app, theme, areas.right, true);
+        }
+        Panel::Shortlist => {
+            shortlist(frame, app, theme, areas.left);
+            detail(frame, app, theme, areas.right, false);
+        }
+        Panel::Library => library(frame, app, theme, areas.left),
+    }
+    status(frame, app, theme, areas.status);
+    bottom(frame, app, theme, areas.bottom);
+    if app.help {
+        help(frame, theme, area);
+    }
+}
+
+fn block(title: String, focused: bool, theme: Theme) -> Block<'static> {
+    let block = Block::default().borders(Borders::ALL).title(title);
+    if focused {
+        block.border_style(theme.focus()).title_style(theme.focus())
+    } else {
+        block
+    }
+}
+
+fn tabs(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let mut spans = vec![
+        Span::styled(" loadfit ", Style::new().add_modifier(Modifier::BOLD)),
+        Span::raw("│"),
+    ];
+    for (i, panel) in Panel::ALL.into_iter().enumerate() {
+        let label = format!(" {} {} ", i + 1, panel.title());
+        if panel == app.panel {
+            spans.push(Span::styled(format!("[{}]", label.trim()), theme.focus()));
+        } else {
+            spans.push(Span::raw(label));
+        }
+    }
+    frame.render_widget(Paragraph::new(Line::from(spans)), area);
+}
+
+/// Keeps `cursor` on screen with stateless paging: the window starts at a multiple of `height`.
+fn window(cursor: usize, len: usize, height: usize) -> std::ops::Range<usize> {
+    if height == 0 {
+        return 0..0;
+    }
+    let start = (cursor / height) * height;
+    start..(start + height).min(len)
+}
+
+fn stage(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect, focused: bool) {
+    let title = format!(
+        "Stage: {}{}",
+        clean(&app.doc.stage.title),
+        if app.dirty { " (edited)" } else { "" }
+    );
+    let block = block(title, focused, theme);
+    let inner = block.inner(area);
+    frame.render_widget(block, area);
+    let height = inner.height as usize;
+    let mut lines = Vec::new();
+    for i in window(app.stage_cursor, FIELDS.len(), height) {
+        let field = &FIELDS[i];
+        let editing = app.editor.as_ref().filter(|e| e.field == i);
+        let stored = app.doc.get(field);
+        let value = match (editing, &stored) {
+            (Some(e), _) => Span::styled(format!("{}▏", e.buffer), theme.focus()),
+            (None, Some(v)) => Span::raw(clean(v).into_owned()),
+            (None, None) => Span::styled(format!("({})", field.default), theme.dim()),
+        };
+        let marker = match field.kind {
+            FieldKind::Choice(_) | FieldKind::Bool => "‹›",
+            _ => "  ",
+        };
+        let mut spans = vec![
+            Span::raw(format!("{:<27}", field.path())),
+            Span::styled(marker, theme.dim()),
+            Span::raw(" "),
+            value,
+        ];
+        if let Some((at, error)) = &app.field_error
+            && *at == i
+        {
+            spans.push(Span::styled(
+                format!("  ✗ {}", clean(error)),
+                theme.fg(Color::Red),
+            ));
+        }
+        let mut line = Line::from(spans);
+        if i == app.stage_cursor && focused {
+            line = line.style(theme.selected());
+        }
+        lines.push(line);
+    }
+    frame.render_widget(Paragraph::new(lines), inner);
+}
+
+fn needs_list(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect, focused: bool) {
+    let errors = app
+        .needs
+        .problems
+        .iter()
+        .filter(|p| p.severity == crate::needs::Severity::Error)
+        .count();
+    let title = format!(
+        "Needs: {} computed{}",
+        app.needs.needs.len(),
+        if errors > 0 {
+            format!(", {errors} error(s)")
+        } else {
+            String::new()
+        }
+    );
+    let block = block(title, focused, theme);
+    let inner = block.inner(area);
+    frame.render_widget(block, area);
+    let height = inner.height as usize;
+    let mut lines = Vec::new();
+    for i in window(app.needs_cursor, app.needs.needs.len(), height) {
+        let need = &app.needs.needs[i];
+        let flagged = app
+            .needs
+            .problems
+            .iter()
+            .any(|p| p.need == Some(need.id) && p.severity == crate::needs::Severity::Error);
+        let mut line = Line::from(vec![
+            Span::raw(format!("{:<28}", need.id)),
+            Span::styled(format!("{:<3}", need.bound.symbol()), theme.dim()),
+            if flagged {
+                Span::styled(format!("{} ✗", need.shown()), theme.fg(Color::Red))
+            } else {
+                Span::raw(need.shown())
+            },
+        ]);
+        if focused && i == app.needs_cursor {
+            line = line.style(theme.selected());
+        }
+        lines.push(line);
+    }
+    frame.render_widget(Paragraph::new(lines), inner);
+}
+
+fn working(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let block = block("Working".to_string(), false, theme);
+    let mut lines = Vec::new();
+    if let Some(need) = app.needs.needs.get(app.needs_cursor) {
+        lines.push(Line::from(Span::styled(
+            format!("{} {} {}", need.id, need.bound.symbol(), need.shown()),
+            Style::new().add_modifier(Modifier::BOLD),
+        )));
+        if !need.formula.is_empty() {
+            lines.push(Line::from(format!("= {}", clean(&need.formula))));
+        }
+        lines.push(Line::from(""));
+        for w in &need.working {
+            lines.push(Line::from(format!("  {}", clean(w))));
+        }
+        lines.push(Line::from(""));
+        lines.push(Line::from(Span::styled(
+            format!("source: {}", clean(&need.source)),
+            theme.dim(),
+        )));
+        for p in app
+            .needs
+            .problems
+            .iter()
+            .filter(|p| p.need == Some(need.id))
+        {
+            lines.push(Line::from(""));
+            lines.push(Line::from(Span::styled(
+                format!("{}: {}", p.severity.name(), clean(&p.message)),
+                severity_style(theme, p.severity),
+            )));
+        }
+    }
+    let general: Vec<_> = app
+        .needs
+        .problems
+        .iter()
+        .filter(|p| p.need.is_none())
+        .collect();
+    if !general.is_empty() {
+        lines.push(Line::from(""));
+        for p in general {
+            lines.push(Line::from(Span::styled(
+                format!("{}: {}", p.severity.name(), clean(&p.message)),
+                severity_style(theme, p.severity),
+            )));
+        }
+    }
+    frame.render_widget(
+        Paragraph::new(lines)
+            .block(block)
+            .wrap(Wrap { trim: false }),
+        area,
+    );
+}
+
+fn severity_style(theme: Theme, severity: crate::needs::Severity) -> Style {
+    match severity {
+        crate::needs::Severity::Error => theme.fg(Color::Red),
+        crate::needs::Severity::Warning => theme.fg(Color::Yellow),
+        crate::needs::Severity::Caution => theme.fg(Color::Magenta).add_modifier(Modifier::BOLD),
+    }
+}
+
+/// The three key ratings of a part, by kind, for the Parts table.
+fn key_ratings(part: &Part) -> [String; 3] {
+    let v = |r: crate::library::Rating, dim: Dim| {
+        r.get().map_or("—".to_string(), |x| format_eng(x, dim))
+    };
+    if let Some(b) = part.bjt() {
+        return [
+            v(b.vceo, Dim::Volt),
+            v(b.ic_max, Dim::Amp),
+            b.hfe_min
+                .get()
+                .map_or("—".to_string(), |h| format!("hFE {h:.0}")),
+        ];
+    }
+    if let Some(m) = part.mosfet() {
+        let rds = match (m.rds_on.get(), m.rds_on_vgs.get()) {
+            (Some(r), Some(g)) => {
+                format!("{}@{}", format_eng(r, Dim::Ohm), format_eng(g, Dim::Volt))
+            }
+            (Some(r), None) => format_eng(r, Dim::Ohm),
+            _ => "—".to_string(),
+        };
+        return [v(m.vds, Dim::Volt), v(m.id_max, Dim::Amp), rds];
+    }
+    if let Some(d) = part.diode() {
+        if part.kind == Kind::Zener {
+            return [v(d.vz, Dim::Volt), v(d.pz, Dim::Watt), v(d.vf, Dim::Volt)];
+        }
+        return [
+            v(d.vrrm, Dim::Volt),
+            v(d.if_avg, Dim::Amp),
+            v(d.vf, Dim::Volt),
+        ];
+    }
+    if let Some(r) = part.relay() {
+        return [
+            v(r.coil_v, Dim::Volt),
+            v(r.coil_r, Dim::Ohm),
+            v(r.dielectric_v, Dim::Volt),
+        ];
+    }
+    if let Some(p) = part.photocell() {
+        return [
+            v(p.r_10lux, Dim::Ohm),
+            p.gamma
+                .get()
+                .map_or("—".to_string(), |g| format!("γ {g:.2}")),
+            v(p.v_max, Dim::Volt),
+        ];
+    }
+    ["—".to_string(), "—".to_string(), "—".to_string()]
+}
+
+fn parts(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect, focused: bool) {
+    let Some(role) = app.fit.roles.get(app.role) else {
+        frame.render_widget(
+            Paragraph::new("no roles: the stage has no parts to choose").block(block(
+                "Parts".into(),
+                focused,
+                theme,
+            )),
+            area,
+        );
+        return;
+    };
+    let roles: Vec<String> = app
+        .fit
+        .roles
+        .iter()
+        .enumerate()
+        .map(|(i, r)| {
+            if i == app.role {
+                format!("[{}]", r.role.name())
+            } else {
+                r.role.name().to_string()
+            }
+        })
+        .collect();
+    let filter = match (&app.search, app.only_fits) {
+        (Some(s), _) => format!(" /{}{}", clean(&s.query), if s.typing { "▏" } else { "" }),
+        (None, true) => " fits only".to_string(),
+        (None, false) => String::new(),
+    };
+    let title = format!(
+        "Parts: {}  {} of {} · {} fit · sort {}{}",
+        roles.join(" "),
+        app.visible().len(),
+        role.candidates.len(),
+        role.fits(),
+        app.sort.name(),
+        filter
+    );
+    let block = block(title, focused, theme);
+    let inner = block.inner(area);
+    frame.render_widget(block, area);
+    let height = inner.height.saturating_sub(1) as usize;
+    let range = window(app.parts_cursor, app.visible().len(), height);
+    // Only the visible rows are built: a frame costs the same at a million parts.
+    let rows: Vec<Row> = app.visible()[range.clone()]
+        .iter()
+        .enumerate()
+        .map(|(offset, &ci)| {
+            let c = &role.candidates[ci];
+            let part = &app.library.parts[c.part];
+            let number = clean(&part.number).into_owned();
+            let letters = app.matched_letters(&number);
+            let number_line: Line = Line::from(
+                number
+                    .chars()
+                    .enumerate()
+                    .map(|(i, ch)| {
+                        if letters.contains(&i) {
+                            Span::styled(
+                                ch.to_string(),
+                                Style::new().add_modifier(Modifier::UNDERLINED | Modifier::BOLD),
+                            )
+                        } else {
+                            Span::raw(ch.to_string())
+                        }
+                    })
+                    .collect::<Vec<_>>(),
+            );
+            let kept = if app.shortlist.contains(role.role, c.part) {
+                "●"
+            } else {
+                " "
+            };
+            let [a, b, k] = key_ratings(part);
+            let mut row = Row::new(vec![
+                Cell::from(kept),
+                Cell::from(Span::styled(
+                    format!("{} {}", c.verdict.glyph(), c.verdict.name()),
+                    theme.verdict(c.verdict),
+                )),
+                Cell::from(number_line),
+                Cell::from(clean(app.library.text(part.package)).into_owned()),
+                Cell::from(a),
+                Cell::from(b),
+                Cell::from(k),
+                Cell::from(
+                    c.headroom
+                        .filter(|h| h.is_finite())
+                        .map_or("—".to_string(), |h| format!("{h:.2}×")),
+                ),
+                Cell::from(
+                    part.price
+                        .get()
+                        .map_or("—".to_string(), |p| format!("{p:.2}")),
+                ),
+                Cell::from(part.stock.map_or("—".to_string(), |s| s.to_string())),
+            ]);
+            if focused && range.start + offset == app.parts_cursor {
+                row = row.style(theme.selected());
+            }
+            row
+        })
+        .collect();
+    let header = Row::new(vec![
+        "", "verdict", "part", "package", "V", "I", "key", "margin", "price", "stock",
+    ])
+    .style(Style::new().add_modifier(Modifier::BOLD));
+    let widths = [
+        Constraint::Length(1),
+        Constraint::Length(9),
+        Constraint::Min(9),
+        Constraint::Length(7),
+        Constraint::Length(7),
+        Constraint::Length(7),
+        Constraint::Length(10),
+        Constraint::Length(6),
+        Constraint::Length(5),
+        Constraint::Length(6),
+    ];
+    frame.render_widget(
+        Table::new(rows, widths).header(header).column_spacing(1),
+        inner,
+    );
+}
+
+fn detail(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect, focused: bool) {
+    let candidate = if app.panel == Panel::Shortlist {
+        app.shortlist_rows()
+            .get(app.shortlist_cursor)
+            .and_then(|&(role, part)| {
+                app.fit
+                    .role(role)?
+                    .candidates
+                    .iter()
+                    .find(|c| c.part == part)
+            })
+    } else {
+        app.selected()
+    };
+    let Some(c) = candidate else {
+        frame.render_widget(
+            Paragraph::new("no part selected").block(block("Detail".into(), focused, theme)),
+            area,
+        );
+        return;
+    };
+    let part = &app.library.parts[c.part];
+    let lib = &app.library;
+    let mut lines = vec![
+        Line::from(vec![
+            Span::styled(
+                clean(&part.number).into_owned(),
+                Style::new().add_modifier(Modifier::BOLD),
+            ),
+            Span::raw("  "),
+            Span::styled(
+                format!("{} {}", c.verdict.glyph(), c.verdict.name()),
+                theme.verdict(c.verdict),
+            ),
+            Span::raw(format!("  rank {} · score {:.1}", c.rank, c.score)),
+        ]),
+        Line::from(format!(
+            "{} · {} · {} pins {} · {}",
+            part.kind.name(),
+            clean(lib.text(part.maker)),
+            clean(lib.text(part.package)),
+            clean(lib.text(part.pinout)),
+            if part.status.name().is_empty() {
+                "status not given"
+            } else {
+                part.status.name()
+            }
+        )),
+        Line::from(format!(
+            "price {} · stock {} · from {}:{}",
+            part.price
+                .get()
+                .map_or("—".to_string(), |p| format!("{p:.2}")),
+            part.stock.map_or("—".to_string(), |s| s.to_string()),
+            clean(lib.file_name(part.source)),
+            part.source.line
+        )),
+        Line::from(Span::styled(
+            format!("limited by: {}", reason(c)),
+            theme.dim(),
+        )),
+        Line::from(""),
+    ];
+    for check in &c.checks {
+        lines.push(Line::from(Span::styled(
+            clean(&check_line(check)).into_owned(),
+            theme.check(check.verdict),
+        )));
+    }
+    if !part.notes.is_empty() {
+        lines.push(Line::from(""));
+        lines.push(Line::from(format!("notes: {}", clean(&part.notes))));
+    }
+    if !part.tags.is_empty() {
+        lines.push(Line::from(format!("tags: {}", clean(&part.tags))));
+    }
+    for (column, text) in part.extra.iter() {
+        let name = lib
+            .extra_columns
+            .get(*column as usize)
+            .map_or("", |s| s.as_str());
+        lines.push(Line::from(format!("{}: {}", clean(name), clean(text))));
+    }
+    for p in app
+        .needs
+        .problems
+        .iter()
+        .filter(|p| p.severity == crate::needs::Severity::Caution)
+    {
+        lines.push(Line::from(""));
+        lines.push(Line::from(Span::styled(
+            format!("caution: {}", clean(&p.message)),
+            severity_style(theme, p.severity),
+        )));
+    }
+    let scroll = if focused { app.detail_scroll as u16 } else { 0 };
+    frame.render_widget(
+        Paragraph::new(lines)
+            .block(block("Detail".to_string(), focused, theme))
+            .wrap(Wrap { trim: false })
+            .scroll((scroll, 0)),
+        area,
+    );
+}
+
+fn shortlist(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let rows_data = app.shortlist_rows();
+    let block = block(format!("Shortlist: {} parts", rows_data.len()), true, theme);
+    let inner = block.inner(area);
+    frame.render_widget(block, area);
+    if rows_data.is_empty() {
+        frame.render_widget(
+            Paragraph::new("nothing kept yet: press Space on a part in the Parts panel")
+                .style(theme.dim()),
+            inner,
+        );
+        return;
+    }
+    let mut lines = Vec::new();
+    let mut last_role = None;
+    let mut position = 0;
+    for (i, (role, part)) in rows_data.iter().enumerate() {
+        if last_role != Some(*role) {
+            position = 0;
+            last_role = Some(*role);
+        }
+        let p = &app.library.parts[*part];
+        let verdict = app
+            .fit
+            .role(*role)
+            .and_then(|r| r.candidates.iter().find(|c| c.part == *part))
+            .map(|c| c.verdict);
+        let mut line = Line::from(vec![
+            Span::raw(format!("{:<8}", role.name())),
+            Span::raw(format!(
+                "{:<13}",
+                if position == 0 {
+                    "pick".to_string()
+                } else {
+                    format!("alternate {position}")
+                }
+            )),
+            Span::raw(format!("{:<16}", clean(&p.number))),
+            verdict.map_or(Span::raw("—"), |v| {
+                Span::styled(format!("{} {:<8}", v.glyph(), v.name()), theme.verdict(v))
+            }),
+            Span::raw(format!(
+                " {:>6} {:>7}",
+                p.price.get().map_or("—".to_string(), |x| format!("{x:.2}")),
+                p.stock.map_or("—".to_string(), |s| s.to_string())
+            )),
+        ]);
+        if i == app.shortlist_cursor {
+            line = line.style(theme.selected());
+        }
+        lines.push(line);
+        position += 1;
+    }
+    frame.render_widget(Paragraph::new(lines), inner);
+}
+
+fn library(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let lib = &app.library;
+    let block = block(
+        format!("Library: {}", clean(&crate::library::lint::summary(lib))),
+        true,
+        theme,
+    );
+    let inner = block.inner(area);
+    frame.render_widget(block, area);
+    let all: Vec<(bool, &crate::library::Diagnostic)> = lib
+        .rejected
+        .iter()
+        .map(|d| (true, d))
+        .chain(lib.warnings.iter().map(|d| (false, d)))
+        .collect();
+    if all.is_empty() {
+        frame.render_widget(
+            Paragraph::new("every row loaded; no warnings").style(theme.dim()),
+            inner,
+        );
+        return;
+    }
+    let mut lines = Vec::new();
+    for i in window(app.library_cursor, all.len(), inner.height as usize) {
+        let (rejected, d) = all[i];
+        let mut line = Line::from(vec![
+            Span::styled(
+                if rejected {
+                    "✗ rejected "
+                } else {
+                    "! warning  "
+                },
+                theme.fg(if rejected { Color::Red } else { Color::Yellow }),
+            ),
+            Span::raw(
+                clean(&format!(
+                    "{}:{}: {}{}",
+                    lib.files.get(d.file as usize).map_or("", |s| s.as_str()),
+                    d.line,
+                    if d.column.is_empty() {
+                        String::new()
+                    } else {
+                        format!("{}: ", d.column)
+                    },
+                    d.message
+                ))
+                .into_owned(),
+            ),
+        ]);
+        if i == app.library_cursor {
+            line = line.style(theme.selected());
+        }
+        lines.push(line);
+    }
+    frame.render_widget(Paragraph::new(lines), inner);
+}
+
+fn status(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let lib = &app.library;
+    let files = if lib.files.len() == 1 {
+        clean(&lib.files[0]).into_owned()
+    } else {
+        format!("{} files", lib.files.len())
+    };
+    let stage = app.stage_path.as_ref().map_or_else(
+        || "demo stage (built in)".to_string(),
+        |p| clean(&p.display().to_string()).into_owned(),
+    );
+    let text = format!(
+        " library {files}: {} parts, {} rejected │ stage {stage}{} │ kept {}",
+        lib.parts.len(),
+        lib.rows_rejected,
+        if app.dirty { " [unsaved edits]" } else { "" },
+        app.shortlist.len()
+    );
+    frame.render_widget(Paragraph::new(text).style(theme.selected()), area);
+}
+
+fn bottom(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let line = match &app.prompt {
+        Some(Prompt::ExportPath(b)) => Line::from(format!(
+            "export the shortlist to (.csv .md .json): {}▏  Enter writes, Esc cancels",
+            clean(b)
+        )),
+        Some(Prompt::SavePath(b)) => Line::from(format!(
+            "save the stage to: {}▏  Enter writes, Esc cancels",
+            clean(b)
+        )),
+        Some(Prompt::ConfirmExport(p)) | Some(Prompt::ConfirmSave(p)) => Line::from(Span::styled(
+            format!("{} exists: overwrite? y/n", clean(&p.display().to_string())),
+            theme.focus(),
+        )),
+        Some(Prompt::ConfirmQuit) => Line::from(Span::styled(
+            "the stage has unsaved edits: quit anyway? y/n (w saves)",
+            theme.focus(),
+        )),
+        None => match &app.message {
+            Some(m) => Line::from(clean(m).into_owned()),
+            None if app.editor.is_some() => Line::from(
+                "typing: Enter applies, Esc cancels; units as you like (12 V, 4k7, 100 mH)",
+            ),
+            None => Line::from(Span::styled(
+                "Tab panels · ↑↓ move · ←→ role/choice · Enter edit/open · Space keep · / search · s sort · f fits · x export · w save · ? help · q quit",
+                theme.dim(),
+            )),
+        },
+    };
+    frame.render_widget(Paragraph::new(line), area);
+}
+
+fn help(frame: &mut Frame<'_>, theme: Theme, area: Rect) {
+    let lines: Vec<Line> = help_lines()
+        .into_iter()
+        .map(|(key, text)| {
+            if text.is_empty() {
+                Line::from(Span::styled(key, Style::new().add_modifier(Modifier::BOLD)))
+            } else {
+                Line::from(vec![
+                    Span::styled(format!("  {key:<11}"), theme.focus()),
+                    Span::raw(text),
+                ])
+            }
+        })
+        .collect();
+    let height = (lines.len() as u16 + 2).min(area.height);
+    let width = 78.min(area.width);
+    let popup = Rect {
+        x: area.x + (area.width - width) / 2,
+        y: area.y + (area.height - height) / 2,
+        width,
+        height,
+    };
+    frame.render_widget(Clear, popup);
+    frame.render_widget(
+        Paragraph::new(lines).block(block("Help (? or Esc closes)".to_string(), true, theme)),
+        popup,
+    );
+}

@@ -1,0 +1,162 @@
+//! The real binary in a real terminal (tmux): open the workbench, move about, keep a part,
+//! quit, and check the terminal came back (main screen, input echoed). Skips without tmux,
+//! except under `CI=true`, where a missing tmux is a failure.
+
+use std::process::Command;
+use std::thread::sleep;
+use std::time::{Duration, Instant};
+
+fn tmux(args: &[&str]) -> String {
+    let out = Command::new("tmux").args(args).output().expect("tmux runs");
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
+fn tmux_available() -> bool {
+    let found = Command::new("tmux")
+        .arg("-V")
+        .output()
+        .is_ok_and(|o| o.status.success());
+    if !found {
+        assert!(
+            std::env::var("CI").as_deref() != Ok("true"),
+            "tmux is required under CI"
+        );
+        eprintln!("skipped: tmux is not installed");
+    }
+    found
+}
+
+/// Waits until the pane shows `text` (or gives up after a few seconds), returning the pane.
+fn wait_for(session: &str, text: &str) -> String {
+    let start = Instant::now();
+    loop {
+        let pane = tmux(&["capture-pane", "-p", "-t", session]);
+        if pane.contains(text) || start.elapsed() > Duration::from_secs(10) {
+            return pane;
+        }
+        sleep(Duration::from_millis(100));
+    }
+}
+
+struct Session(String);
+
+impl Drop for Session {
+    fn drop(&mut self) {
+        let _ = Command::new("tmux")
+            .args(["kill-session", "-t", &self.0])
+            .output();
+    }
+}
+
+#[test]
+fn the_workbench_runs_in_a_terminal_and_restores_it() {
+    if !tmux_available() {
+        return;
+    }
+    let name = format!("loadfit-test-{}", std::process::id());
+    let session = Session(name.clone());
+    let bin = env!("CARGO_BIN_EXE_loadfit");
+    tmux(&[
+        "new-session",
+        "-d",
+        "-s",
+        &name,
+        "-x",
+        "120",
+        "-y",
+        "32",
+        "sh",
+    ]);
+    tmux(&[
+        "send-keys",
+        "-t",
+        &name,
+        &format!("TERM=xterm-256color {bin}; echo loadfit-ended-$((40+2))"),
+        "Enter",
+    ]);
+    let pane = wait_for(&name, "Needs:");
+    assert!(
+        pane.contains("[1 Stage]") && pane.contains("supply.volts"),
+        "{pane}"
+    );
+    assert_eq!(
+        tmux(&["display", "-p", "-t", &name, "#{alternate_on}"]).trim(),
+        "1"
+    );
+
+    tmux(&["send-keys", "-t", &name, "3"]);
+    let pane = wait_for(&name, "[3 Parts]");
+    assert!(pane.contains("fits"), "a person sees verdict words: {pane}");
+    tmux(&["send-keys", "-t", &name, "Space"]);
+    let pane = wait_for(&name, "kept 1");
+    assert!(pane.contains("kept 1"), "{pane}");
+    tmux(&["send-keys", "-t", &name, "?"]);
+    let pane = wait_for(&name, "Help");
+    assert!(pane.contains("next panel"), "{pane}");
+    tmux(&["send-keys", "-t", &name, "Escape"]);
+    sleep(Duration::from_millis(300));
+
+    tmux(&["send-keys", "-t", &name, "q"]);
+    // The marker is printed by the shell only after loadfit ends (the command shows `$((40+2))`).
+    let pane = wait_for(&name, "loadfit-ended-42");
+    assert!(pane.contains("loadfit-ended-42"), "{pane}");
+    assert_eq!(
+        tmux(&["display", "-p", "-t", &name, "#{alternate_on}"]).trim(),
+        "0",
+        "back from the alternate screen"
+    );
+    tmux(&["send-keys", "-t", &name, "echo typed-back-fine", "Enter"]);
+    let pane = wait_for(&name, "typed-back-fine\n");
+    assert!(
+        pane.matches("typed-back-fine").count() >= 2,
+        "input is echoed again: {pane}"
+    );
+    drop(session);
+}
+
+#[test]
+fn sigterm_restores_the_terminal() {
+    if !tmux_available() {
+        return;
+    }
+    let name = format!("loadfit-term-{}", std::process::id());
+    let _session = Session(name.clone());
+    let bin = env!("CARGO_BIN_EXE_loadfit");
+    tmux(&[
+        "new-session",
+        "-d",
+        "-s",
+        &name,
+        "-x",
+        "120",
+        "-y",
+        "32",
+        "sh",
+    ]);
+    tmux(&[
+        "send-keys",
+        "-t",
+        &name,
+        &format!("TERM=xterm-256color {bin}; echo after-term-$((40+2))"),
+        "Enter",
+    ]);
+    let pane = wait_for(&name, "Needs:");
+    assert!(pane.contains("[1 Stage]"), "{pane}");
+    let shell = tmux(&["display", "-p", "-t", &name, "#{pane_pid}"]);
+    let child = Command::new("pgrep")
+        .args(["-P", shell.trim()])
+        .output()
+        .expect("pgrep runs");
+    let pid = String::from_utf8_lossy(&child.stdout).trim().to_string();
+    assert!(!pid.is_empty(), "the workbench runs under the shell");
+    Command::new("kill")
+        .args(["-TERM", &pid])
+        .status()
+        .expect("kill runs");
+    let pane = wait_for(&name, "after-term-42");
+    assert!(pane.contains("after-term-42"), "{pane}");
+    assert_eq!(
+        tmux(&["display", "-p", "-t", &name, "#{alternate_on}"]).trim(),
+        "0"
+    );
+}
