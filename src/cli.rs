@@ -7,6 +7,7 @@ mod init;
 mod lint;
 mod needs;
 mod shortlist;
+mod swap;
 
 use clap::{Parser, Subcommand};
 use loadfit::library::{Library, LoadError};
@@ -42,6 +43,8 @@ enum Command {
     Fit(fit::Args),
     /// Write the best fit of each role and its alternates (CSV, Markdown or JSON).
     Shortlist(shortlist::Args),
+    /// Find the parts that can take a given part's place, with the pin-order traps named.
+    Swap(swap::Args),
 }
 
 /// An error that ends the run: printed as one line, exit code 2.
@@ -130,6 +133,7 @@ fn run(cli: Cli, out: &mut Output) -> Result<u8, CliError> {
         Some(Command::Needs(args)) => needs::run(&args, &cli.parts, out),
         Some(Command::Fit(args)) => fit::run(&args, &cli.parts, out),
         Some(Command::Shortlist(args)) => shortlist::run(&args, &cli.parts, out),
+        Some(Command::Swap(args)) => swap::run(&args, &cli.parts, out),
         None => workbench(&cli.parts, cli.stage.as_deref(), out),
     }
 }

@@ -32,7 +32,12 @@ pub fn action_for_key(app: &App, key: KeyEvent) -> Option<Action> {
     }
     let confirming = matches!(
         app.prompt,
-        Some(Prompt::ConfirmExport(_) | Prompt::ConfirmSave(_) | Prompt::ConfirmQuit)
+        Some(
+            Prompt::ConfirmExport(_)
+                | Prompt::ConfirmSave(_)
+                | Prompt::ConfirmQuit
+                | Prompt::RestoreAutosave(_)
+        )
     );
     if app.typing() || confirming {
         return match key.code {

@@ -70,6 +70,8 @@ pub enum Prompt {
     ConfirmSave(PathBuf),
     /// Unsaved edits: quit anyway?
     ConfirmQuit,
+    /// An autosave of the stage from an earlier run was found: restore it?
+    RestoreAutosave(PathBuf),
 }
 
 /// A Stage field being edited.
@@ -469,6 +471,60 @@ impl App {
         self.dirty = true;
         self.field_error = None;
         self.recompute();
+        self.autosave();
+    }
+
+    /// Where edits of the stage are kept until saved: `.NAME.autosave` beside the stage file.
+    /// The built-in demo stage has none (there is no file to sit beside).
+    #[must_use]
+    pub fn autosave_path(&self) -> Option<PathBuf> {
+        autosave_path_for(self.stage_path.as_deref()?)
+    }
+
+    fn autosave(&mut self) {
+        if let Some(path) = self.autosave_path()
+            && let Err(e) = write_atomic(&path, self.doc.to_text().as_bytes(), true)
+        {
+            self.message = Some(format!("autosave failed: {e}"));
+        }
+    }
+
+    /// Removes the autosave (after a save, or a quit that discards the edits on purpose).
+    pub fn drop_autosave(&self) {
+        if let Some(path) = self.autosave_path() {
+            let _ = std::fs::remove_file(path);
+        }
+    }
+
+    /// Offers back an autosave left by an earlier run that ended without saving.
+    pub fn offer_autosave(&mut self) {
+        if let Some(path) = self.autosave_path()
+            && path.is_file()
+        {
+            self.prompt = Some(Prompt::RestoreAutosave(path));
+        }
+    }
+
+    fn restore_autosave(&mut self, path: &std::path::Path) {
+        let restored = std::fs::read_to_string(path)
+            .map_err(|e| e.to_string())
+            .and_then(|text| StageDoc::parse(&text, &self.doc.file));
+        match restored {
+            Ok(doc) => {
+                self.doc = doc;
+                self.dirty = true;
+                self.recompute();
+                self.message = Some(format!(
+                    "restored the unsaved edits from {}; w saves them",
+                    path.display()
+                ));
+            }
+            Err(e) => {
+                self.message = Some(format!(
+                    "the autosave could not be read ({e}); it is left in place"
+                ))
+            }
+        }
     }
 
     fn update_editor(&mut self, action: Action) {
@@ -555,20 +611,29 @@ impl App {
                 }
                 _ => {}
             },
-            Prompt::ConfirmExport(_) | Prompt::ConfirmSave(_) | Prompt::ConfirmQuit => {
+            Prompt::ConfirmExport(_)
+            | Prompt::ConfirmSave(_)
+            | Prompt::ConfirmQuit
+            | Prompt::RestoreAutosave(_) => {
                 let yes = matches!(action, Action::Type('y' | 'Y'));
                 let no = matches!(action, Action::Type('n' | 'N') | Action::Back);
                 if !(yes || no) {
                     return;
                 }
                 let prompt = self.prompt.take();
-                if yes {
-                    match prompt {
-                        Some(Prompt::ConfirmExport(path)) => self.export(&path, true),
-                        Some(Prompt::ConfirmSave(path)) => self.save(&path, true),
-                        Some(Prompt::ConfirmQuit) => self.quit = true,
-                        _ => {}
+                match (yes, prompt) {
+                    (true, Some(Prompt::ConfirmExport(path))) => self.export(&path, true),
+                    (true, Some(Prompt::ConfirmSave(path))) => self.save(&path, true),
+                    (true, Some(Prompt::ConfirmQuit)) => {
+                        self.drop_autosave();
+                        self.quit = true;
                     }
+                    (true, Some(Prompt::RestoreAutosave(path))) => self.restore_autosave(&path),
+                    (false, Some(Prompt::RestoreAutosave(path))) => {
+                        let _ = std::fs::remove_file(&path);
+                        self.message = Some("the autosave was discarded".to_string());
+                    }
+                    _ => {}
                 }
             }
         }
@@ -622,6 +687,7 @@ impl App {
         let text = format!("# stage saved by loadfit\n{}", self.doc.to_text());
         self.message = Some(match write_atomic(path, text.as_bytes(), overwrite) {
             Ok(()) => {
+                self.drop_autosave();
                 self.dirty = false;
                 self.stage_path = Some(path.to_path_buf());
                 format!("saved {}", path.display())
@@ -680,6 +746,13 @@ impl App {
             self.focus(Panel::Detail);
         }
     }
+}
+
+/// The autosave beside a stage file: `.NAME.autosave` in the same folder.
+#[must_use]
+pub fn autosave_path_for(stage: &std::path::Path) -> Option<PathBuf> {
+    let name = stage.file_name()?.to_string_lossy();
+    Some(stage.with_file_name(format!(".{name}.autosave")))
 }
 
 /// The text a part is searched by: number, maker, package, notes and tags.

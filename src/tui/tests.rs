@@ -231,3 +231,36 @@ fn saving_the_stage_writes_a_file_that_reads_back() {
     let stage = crate::stage::Stage::read(&path).unwrap();
     assert!(stage.rules.require_rohs);
 }
+
+#[test]
+fn edits_are_autosaved_and_offered_back_after_a_crash() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("pump.toml");
+    std::fs::write(&path, super::DEMO_STAGE).unwrap();
+    let open = || {
+        let doc = StageDoc::parse(&std::fs::read_to_string(&path).unwrap(), "pump.toml").unwrap();
+        let mut app = App::new(Library::demo(), Vec::new(), doc, Some(path.clone()));
+        app.offer_autosave();
+        app
+    };
+    let mut app = open();
+    assert!(app.prompt.is_none());
+    app.stage_cursor = field_index("rules.require_rohs");
+    app.update(Action::Right);
+    let autosave = app.autosave_path().unwrap();
+    assert!(autosave.is_file());
+    // The run ends without saving (a crash): the next run offers the edits back.
+    drop(app);
+    let mut app = open();
+    assert!(matches!(
+        app.prompt,
+        Some(super::app::Prompt::RestoreAutosave(_))
+    ));
+    assert!(!app.doc.stage.rules.require_rohs);
+    app.update(Action::Type('y'));
+    assert!(app.doc.stage.rules.require_rohs && app.dirty);
+    // Saving writes the stage and removes the autosave.
+    app.save(&path, true);
+    assert!(!autosave.exists());
+    assert!(crate::stage::Stage::read(&path).unwrap().rules.require_rohs);
+}

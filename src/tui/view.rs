@@ -786,6 +786,13 @@ fn bottom(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
             "the stage has unsaved edits: quit anyway? y/n (w saves)",
             theme.focus(),
         )),
+        Some(Prompt::RestoreAutosave(p)) => Line::from(Span::styled(
+            format!(
+                "unsaved edits of this stage were kept in {}: restore them? y/n",
+                clean(&p.display().to_string())
+            ),
+            theme.focus(),
+        )),
         None => match &app.message {
             Some(m) => Line::from(clean(m).into_owned()),
             None if app.editor.is_some() => Line::from(
