@@ -35,6 +35,25 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         app.message = None;
         shoot(&app, &panel.title().to_lowercase())?;
     }
+    // The Swap panel for the E-B-C transistor whose C-B-E twin is the pin-order trap.
+    app.update(Action::Panel(2));
+    if let Some(at) = app.visible().iter().position(|&c| {
+        let part = app.fit.roles[app.role].candidates[c].part;
+        &*app.library.parts[part].number == "BRN2210E"
+    }) {
+        app.parts_cursor = at;
+    }
+    app.update(Action::FindSubstitutes);
+    if let Some(swap) = &app.swap
+        && let Some(twin) = swap
+            .candidates
+            .iter()
+            .position(|c| &*app.library.parts[c.part].number == "BRN2210C")
+    {
+        app.swap_cursor = twin;
+    }
+    app.message = None;
+    shoot(&app, "swap")?;
     app.update(Action::Panel(1));
     app.needs_cursor = app
         .needs

@@ -8,6 +8,8 @@ mod lint;
 mod needs;
 mod shortlist;
 mod swap;
+mod synthetic;
+mod trace;
 
 use clap::{Parser, Subcommand};
 use loadfit::library::{Library, LoadError};
@@ -43,8 +45,14 @@ enum Command {
     Fit(fit::Args),
     /// Write the best fit of each role and its alternates (CSV, Markdown or JSON).
     Shortlist(shortlist::Args),
+    /// Write a synthetic library (every kind, a few bad rows) for benchmarks and tests.
+    #[command(name = "gen")]
+    Gen(synthetic::Args),
     /// Find the parts that can take a given part's place, with the pin-order traps named.
     Swap(swap::Args),
+    /// Simulate the switching edge: the voltage across the switch and the load current, the
+    /// peak, the clamp energy and the release time, as text, JSON, CSV or an SVG plot.
+    Trace(trace::Args),
 }
 
 /// An error that ends the run: printed as one line, exit code 2.
@@ -84,7 +92,9 @@ impl Output {
         }
     }
 
-    /// Writes one line.
+    /// Writes one line (or several, for JSON). Every writer cleans the text it takes from files;
+    /// as a last guard, a control or bidi character that still reaches here is made visible
+    /// (`text::clean_lines`) rather than sent to the terminal.
     ///
     /// # Errors
     /// [`CliError::Output`] on a write error other than a closed pipe.
@@ -92,6 +102,7 @@ impl Output {
         if self.closed {
             return Ok(());
         }
+        let text = loadfit::text::clean_lines(text);
         match writeln!(self.out, "{text}") {
             Ok(()) => Ok(()),
             Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {
@@ -133,7 +144,9 @@ fn run(cli: Cli, out: &mut Output) -> Result<u8, CliError> {
         Some(Command::Needs(args)) => needs::run(&args, &cli.parts, out),
         Some(Command::Fit(args)) => fit::run(&args, &cli.parts, out),
         Some(Command::Shortlist(args)) => shortlist::run(&args, &cli.parts, out),
+        Some(Command::Gen(args)) => synthetic::run(&args, out),
         Some(Command::Swap(args)) => swap::run(&args, &cli.parts, out),
+        Some(Command::Trace(args)) => trace::run(&args, &cli.parts, out),
         None => workbench(&cli.parts, cli.stage.as_deref(), out),
     }
 }

@@ -14,12 +14,15 @@ use std::borrow::Cow;
 use std::path::{Path, PathBuf};
 use thiserror::Error;
 
-/// A cell made safe for a spreadsheet and quoted for CSV. Text beginning with `=` `+` `-` `@`,
-/// tab or carriage return would be run as a formula by a spreadsheet; it gets a leading `'`
-/// (OWASP guidance on CSV injection). Numbers stay numbers (`-5` is left alone).
+/// A cell made safe for a terminal and a spreadsheet, and quoted for CSV. Control, C1, bidi and
+/// zero-width characters are made visible first ([`clean`]: a CSV file is also read with `cat`);
+/// then text beginning with `=` `+` `-` `@`, tab or carriage return, which a spreadsheet would
+/// run as a formula, gets a leading `'` (OWASP guidance on CSV injection). Numbers stay numbers
+/// (`-5` is left alone).
 #[must_use]
 pub fn csv_cell(text: &str) -> String {
-    let safe = neutralise(text);
+    let cleaned = clean(text);
+    let safe = neutralise(&cleaned);
     if safe.contains([',', '"', '\n', '\r']) {
         format!("\"{}\"", safe.replace('"', "\"\""))
     } else {
@@ -27,11 +30,18 @@ pub fn csv_cell(text: &str) -> String {
     }
 }
 
-/// The text with a leading `'` when a spreadsheet would read it as a formula.
+/// The text with a leading `'` when a spreadsheet would read it as a formula. Only a plain
+/// decimal number is spared (`-5`, `+1.5e3`); `-inf` or `-nan`, which Rust reads as numbers, are
+/// formulas to a spreadsheet and are prefixed too.
 #[must_use]
 pub fn neutralise(text: &str) -> Cow<'_, str> {
     let risky = text.starts_with(['=', '+', '-', '@', '\t', '\r']);
-    if risky && text.trim().parse::<f64>().is_err() {
+    let trimmed = text.trim();
+    let number = trimmed
+        .bytes()
+        .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b'+' | b'-' | b'e' | b'E'))
+        && trimmed.parse::<f64>().is_ok_and(f64::is_finite);
+    if risky && !number {
         Cow::Owned(format!("'{text}"))
     } else {
         Cow::Borrowed(text)
@@ -494,9 +504,7 @@ pub fn write_shortlist(
     let text = match format {
         Format::Csv => to_csv(context, shortlist),
         Format::Markdown => to_markdown(context, shortlist),
-        Format::Json => {
-            serde_json::to_string_pretty(&to_json(context, shortlist)).unwrap_or_default() + "\n"
-        }
+        Format::Json => crate::text::to_json_pretty(&to_json(context, shortlist)) + "\n",
     };
     write_atomic(path, text.as_bytes(), overwrite)?;
     Ok(())
@@ -521,12 +529,25 @@ mod tests {
         assert_eq!(csv_cell("=HYPERLINK(\"x\")"), "\"'=HYPERLINK(\"\"x\"\")\"");
         assert_eq!(csv_cell("+cmd"), "'+cmd");
         assert_eq!(csv_cell("@SUM(A1)"), "'@SUM(A1)");
-        assert_eq!(csv_cell("\tx"), "'\tx");
+        assert_eq!(neutralise("\tx"), "'\tx");
+        assert_eq!(neutralise("\rx"), "'\rx");
         assert_eq!(csv_cell("-5"), "-5");
         assert_eq!(csv_cell("-1.5e3"), "-1.5e3");
         assert_eq!(csv_cell("-x"), "'-x");
+        assert_eq!(csv_cell("-inf"), "'-inf");
+        assert_eq!(csv_cell("+NaN"), "'+NaN");
         assert_eq!(csv_cell("plain"), "plain");
         assert_eq!(csv_cell("a,b"), "\"a,b\"");
+    }
+
+    /// ECMA-48 control sequences and Unicode bidi controls are made visible in CSV cells, so
+    /// neither `cat` nor a spreadsheet acts on them; a tab or CR made visible no longer leads.
+    #[test]
+    fn control_characters_are_made_visible_in_cells() {
+        assert_eq!(csv_cell("QX\u{1b}[2J1"), "QX<U+001B>[2J1");
+        assert_eq!(csv_cell("\u{202e}QX1"), "<U+202E>QX1");
+        assert_eq!(csv_cell("\tx"), "<U+0009>x");
+        assert_eq!(csv_cell("=A1\u{9b}"), "'=A1<U+009B>");
     }
 
     #[test]

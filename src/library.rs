@@ -25,8 +25,9 @@ pub const DEMO_CSV: &str = include_str!("../data/demo-parts.csv");
 /// The name the demo library's file is shown under.
 pub const DEMO_NAME: &str = "demo-parts.csv (built in)";
 
-/// Limits that keep a hostile file from exhausting memory. A cell or row past them is rejected
-/// with a message naming the limit.
+/// Limits that keep a hostile file from exhausting memory or time. A cell or row past them is
+/// rejected with a message naming the limit; past the row limits, the rest of the file is not
+/// read (and the message says so).
 pub mod limits {
     /// Largest cell, in bytes (64 KiB): far above any real rating or note.
     pub const MAX_CELL_BYTES: usize = 64 * 1024;
@@ -34,6 +35,18 @@ pub mod limits {
     pub const MAX_COLUMNS: usize = 4096;
     /// Most diagnostics kept per file; the rest are counted, not stored.
     pub const MAX_DIAGNOSTICS_PER_FILE: usize = 10_000;
+    /// Most rows one library reads, over all its files (5 million: a part takes about 260
+    /// bytes, so the parts stay near 1.3 GB at most). The row past it is rejected with a
+    /// message and the rest of its file is not read.
+    pub const MAX_ROWS: usize = 5_000_000;
+    /// Largest row, in bytes (16 MiB), line ends and quoted line breaks included. A file with
+    /// no line ends, a quote left open in a large file or an endless stream stops here instead
+    /// of filling memory; the rest of the file is not read.
+    pub const MAX_ROW_BYTES: u64 = 16 * 1024 * 1024;
+    /// Largest UTF-16 file (256 MiB), which is decoded whole before it is read.
+    pub const MAX_UTF16_FILE_BYTES: u64 = 256 * 1024 * 1024;
+    /// Longest text kept in a diagnostic's message, in characters; longer ones are cut.
+    pub const MAX_MESSAGE_CHARS: usize = 600;
 }
 
 /// One problem found while reading a library: where (file, line, column), the text and why.
@@ -87,6 +100,15 @@ pub enum LoadError {
         /// The folder.
         path: PathBuf,
     },
+    /// The file is past one of the [`limits`] before its header could be read (a header line
+    /// over [`limits::MAX_ROW_BYTES`], a UTF-16 file over [`limits::MAX_UTF16_FILE_BYTES`]).
+    #[error("{path}: {message}")]
+    OverLimit {
+        /// The file.
+        path: PathBuf,
+        /// Which limit, and what to do.
+        message: String,
+    },
     /// More columns than [`limits::MAX_COLUMNS`].
     #[error("{path}: line 1: {columns} columns, over the limit of {limit}; is this a parts list?")]
     TooManyColumns {
@@ -118,6 +140,8 @@ pub struct Library {
     pub rows_rejected: usize,
     /// Warnings and rejections seen per file, stored or not (see [`limits`]).
     pub(crate) diagnostic_counts: Vec<[usize; 2]>,
+    /// A row limit below [`limits::MAX_ROWS`], if one was set.
+    row_limit: Option<usize>,
     strings: Vec<Box<str>>,
     string_ids: HashMap<Box<str>, u32>,
     index: HashMap<u64, u32>,
@@ -207,6 +231,18 @@ impl Library {
     /// As [`Library::load`].
     pub fn add_bytes(&mut self, name: &str, bytes: &[u8]) -> Result<(), LoadError> {
         read::read_bytes(self, name, bytes).map_err(|e| e.at(Path::new(name)))
+    }
+
+    /// Lowers the most rows this library reads, over all its files, to `rows` (never above
+    /// [`limits::MAX_ROWS`]): for a host with little memory, and for tests of the limit.
+    pub fn set_row_limit(&mut self, rows: usize) {
+        self.row_limit = Some(rows.min(limits::MAX_ROWS));
+    }
+
+    /// The most rows this library reads, over all its files.
+    #[must_use]
+    pub fn row_limit(&self) -> usize {
+        self.row_limit.unwrap_or(limits::MAX_ROWS)
     }
 
     /// The text of an interned string (package, pinout, maker).

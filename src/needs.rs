@@ -6,6 +6,11 @@
 //! themselves as pure functions, each returning its value with its working ([`Worked`]), so the
 //! fit and trace code can reuse them per part. [`report`] renders needs as text, Markdown and
 //! the JSON that `loadfit needs --format json` prints.
+//!
+//! With `rules.worst_case` on, [`compute`] gives every need at its worst corner of supply,
+//! temperature and tolerance ([`worst`]): each [`Need`] then carries the [`Corner`] it is taken
+//! at and its nominal value beside it. [`compute_both`] gives the nominal and the worst-case
+//! needs of a stage together, whatever its `worst_case` says, for a view that shows both.
 
 mod assemble;
 pub mod eseries;
@@ -17,8 +22,10 @@ pub mod report;
 pub mod switching;
 pub mod thermal;
 pub mod timing;
+pub mod worst;
 
-pub use assemble::compute;
+pub use assemble::{Cases, compute, compute_both, compute_nominal};
+pub use worst::Corner;
 
 use crate::units::{Dim, format_eng};
 use std::fmt;
@@ -270,6 +277,12 @@ pub struct Need {
     pub working: Vec<String>,
     /// The source of the rule.
     pub source: String,
+    /// In a worst-case computation, the corner the value is taken at (empty when no factor
+    /// moves it); `None` in a nominal computation.
+    pub corner: Option<Corner>,
+    /// In a worst-case computation, the need's nominal value (SI), for showing beside the worst
+    /// one; `None` in a nominal computation or where the nominal has no value.
+    pub nominal: Option<f64>,
 }
 
 impl Need {
@@ -285,6 +298,17 @@ impl Need {
             formula: String::new(),
             working: Vec::new(),
             source: String::new(),
+            corner: None,
+            nominal: None,
+        }
+    }
+
+    /// The nominal value in engineering notation, or "not bounded", for a worst-case need.
+    #[must_use]
+    pub fn nominal_shown(&self) -> String {
+        match self.nominal {
+            Some(v) => format_eng(v, self.unit.dim()),
+            None => "not bounded".to_string(),
         }
     }
 
@@ -377,6 +401,13 @@ impl Needs {
             }
         }
         roles
+    }
+
+    /// Whether these needs are taken at their worst corners (computed with `rules.worst_case`
+    /// or as the worst half of [`compute_both`]): every need then carries a corner.
+    #[must_use]
+    pub fn is_worst_case(&self) -> bool {
+        self.needs.iter().any(|n| n.corner.is_some())
     }
 
     /// Whether any problem is an error (the stage cannot work as given).

@@ -9,7 +9,7 @@
 mod read;
 
 use crate::needs::eseries::Series;
-use crate::units::{Amps, Celsius, Farads, Henries, Lux, Ohms, Volts};
+use crate::units::{Amps, Celsius, Farads, Henries, Kelvins, Lux, Ohms, Volts};
 use std::fmt;
 use std::path::Path;
 use thiserror::Error;
@@ -68,9 +68,23 @@ pub const KEYS: [(&str, &[&str]); 10] = [
             "quantity",
             "allow_obsolete",
             "require_rohs",
+            "worst_case",
+            "temperature_min",
+            "temperature_max",
+            "coil_rise",
         ],
     ),
-    ("assume", &["vce_sat", "vbe_on", "diode_vf"]),
+    (
+        "assume",
+        &[
+            "vce_sat",
+            "vbe_on",
+            "diode_vf",
+            "vbe_tempco",
+            "hfe_tempco",
+            "resistor_tolerance",
+        ],
+    ),
 ];
 
 /// Largest stage file read, in bytes: a stage is a few hundred bytes; this keeps a wrong path
@@ -431,7 +445,8 @@ pub struct Sensor {
     pub part: Option<String>,
 }
 
-/// `[rules]`: deratings, ambient, the E-series for picked resistors, and buying rules.
+/// `[rules]`: deratings, ambient, the E-series for picked resistors, buying rules, and the
+/// worst-case switch with its temperature range (issue 10).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Rules {
     /// Voltage derating factor (0.8: a part works at most at 80 % of its voltage rating).
@@ -450,6 +465,15 @@ pub struct Rules {
     pub allow_obsolete: bool,
     /// Whether parts must be RoHS compliant.
     pub require_rohs: bool,
+    /// Whether every need is taken at its worst corner of supply, temperature and tolerance
+    /// (see [`crate::needs::worst`]) instead of at nominal.
+    pub worst_case: bool,
+    /// The coldest ambient the stage must work in (worst case).
+    pub temperature_min: Celsius,
+    /// The hottest ambient the stage must work in (worst case).
+    pub temperature_max: Celsius,
+    /// How far a relay or solenoid coil warms above the ambient when energised (worst case).
+    pub coil_rise: Kelvins,
 }
 
 impl Default for Rules {
@@ -463,6 +487,10 @@ impl Default for Rules {
             quantity: 1,
             allow_obsolete: false,
             require_rohs: false,
+            worst_case: false,
+            temperature_min: Celsius(-20.0),
+            temperature_max: Celsius(60.0),
+            coil_rise: Kelvins(30.0),
         }
     }
 }
@@ -476,6 +504,15 @@ pub struct Assume {
     pub vbe_on: Volts,
     /// Clamp diode forward voltage.
     pub diode_vf: Volts,
+    /// Drift of the base-emitter voltage with temperature, V/K (-2 mV/K: VBE rises in the
+    /// cold); worst case only.
+    pub vbe_tempco: f64,
+    /// Relative drift of hFE with temperature about 25 °C, per kelvin as a fraction (0.005 is
+    /// +0.5 %/K: hFE falls in the cold; common practice, from memory); worst case only.
+    pub hfe_tempco: f64,
+    /// Tolerance of the resistors loadfit picks (base, LED series, photocell divider), as a
+    /// fraction; `None` for the tolerance of `rules.eseries` ([`Stage::resistor_tolerance`]).
+    pub resistor_tolerance: Option<f64>,
 }
 
 impl Default for Assume {
@@ -484,6 +521,9 @@ impl Default for Assume {
             vce_sat: Volts(0.2),
             vbe_on: Volts(0.7),
             diode_vf: Volts(0.7),
+            vbe_tempco: -2e-3,
+            hfe_tempco: 0.005,
+            resistor_tolerance: None,
         }
     }
 }
@@ -587,8 +627,24 @@ impl Stage {
                 meta.len()
             )));
         }
-        let bytes = std::fs::read(path)
-            .map_err(|e| whole(format!("cannot read the stage file: {e}; check the path")))?;
+        // Read at most one byte past the limit: a device or pipe (`/dev/zero`) has no length
+        // to check beforehand and may never end.
+        let mut bytes = Vec::new();
+        std::io::Read::read_to_end(
+            &mut std::io::Read::take(
+                std::fs::File::open(path).map_err(|e| {
+                    whole(format!("cannot read the stage file: {e}; check the path"))
+                })?,
+                MAX_FILE_BYTES + 1,
+            ),
+            &mut bytes,
+        )
+        .map_err(|e| whole(format!("cannot read the stage file: {e}; check the path")))?;
+        if bytes.len() as u64 > MAX_FILE_BYTES {
+            return Err(whole(format!(
+                "over the {MAX_FILE_BYTES}-byte limit for a stage file; is this the right file?"
+            )));
+        }
         let text = String::from_utf8(bytes).map_err(|e| {
             whole(format!(
                 "not UTF-8 text (bad byte at offset {}); save the stage file as UTF-8",
@@ -596,6 +652,15 @@ impl Stage {
             ))
         })?;
         Stage::from_toml(&text, &file)
+    }
+
+    /// The tolerance of the resistors loadfit picks: `assume.resistor_tolerance` when given,
+    /// else the tolerance the chosen E-series is made for (IEC 60063: E12 ±10 %).
+    #[must_use]
+    pub fn resistor_tolerance(&self) -> f64 {
+        self.assume
+            .resistor_tolerance
+            .unwrap_or_else(|| self.rules.eseries.tolerance())
     }
 
     /// V_sat for the off-state and load-current needs: assume.vce_sat for an npn or pnp switch,

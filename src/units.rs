@@ -54,6 +54,11 @@ pub enum Dim {
     Percent,
     /// A plain number (hFE, gamma, a multiplier).
     Number,
+    /// A voltage temperature coefficient, V/K (a base-emitter voltage's drift, typed "-2 mV/K").
+    VoltPerKelvin,
+    /// A relative temperature coefficient, %/K, held as a fraction per kelvin (0.5 %/K is
+    /// 0.005), like [`Dim::Percent`].
+    PercentPerKelvin,
 }
 
 impl Dim {
@@ -77,6 +82,8 @@ impl Dim {
             Dim::Metre => "m",
             Dim::Percent => "%",
             Dim::Number => "",
+            Dim::VoltPerKelvin => "V/K",
+            Dim::PercentPerKelvin => "%/K",
         }
     }
 
@@ -87,6 +94,7 @@ impl Dim {
             Dim::Ohm => "ohm",
             Dim::Celsius => "C",
             Dim::Number | Dim::Percent => "",
+            Dim::PercentPerKelvin => "1/K",
             other => other.symbol(),
         }
     }
@@ -111,6 +119,8 @@ impl Dim {
             Dim::Metre => "a length",
             Dim::Percent => "a percentage",
             Dim::Number => "a plain number",
+            Dim::VoltPerKelvin => "a voltage temperature coefficient",
+            Dim::PercentPerKelvin => "a relative temperature coefficient",
         }
     }
 
@@ -119,7 +129,13 @@ impl Dim {
     pub fn takes_prefix(self) -> bool {
         !matches!(
             self,
-            Dim::Celsius | Dim::Kelvin | Dim::Percent | Dim::Number | Dim::Lux | Dim::KelvinPerWatt
+            Dim::Celsius
+                | Dim::Kelvin
+                | Dim::Percent
+                | Dim::PercentPerKelvin
+                | Dim::Number
+                | Dim::Lux
+                | Dim::KelvinPerWatt
         )
     }
 }

@@ -69,6 +69,16 @@ pub fn write_atomic_with(
         fill(&mut buffered).map_err(io)?;
         buffered.flush().map_err(io)?;
     }
+    // A temporary file is created private (0600); the file it becomes should have the
+    // permissions of the file it replaces, or the usual 0644 for a new one.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        let mode = std::fs::metadata(path).map_or(0o644, |m| m.permissions().mode() & 0o7777);
+        temp.as_file()
+            .set_permissions(std::fs::Permissions::from_mode(mode))
+            .map_err(io)?;
+    }
     temp.as_file().sync_all().map_err(io)?;
     if overwrite {
         temp.persist(path).map_err(|e| io(e.error))?;
@@ -102,6 +112,25 @@ mod tests {
         assert_eq!(std::fs::read(&path).unwrap(), b"one");
         write_atomic(&path, b"two", true).unwrap();
         assert_eq!(std::fs::read(&path).unwrap(), b"two");
+    }
+
+    #[cfg(unix)]
+    #[test]
+    fn written_files_are_readable_like_any_other() {
+        use std::os::unix::fs::PermissionsExt;
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("new.csv");
+        write_atomic(&path, b"x", false).unwrap();
+        assert_eq!(
+            std::fs::metadata(&path).unwrap().permissions().mode() & 0o777,
+            0o644
+        );
+        std::fs::set_permissions(&path, std::fs::Permissions::from_mode(0o640)).unwrap();
+        write_atomic(&path, b"y", true).unwrap();
+        assert_eq!(
+            std::fs::metadata(&path).unwrap().permissions().mode() & 0o777,
+            0o640
+        );
     }
 
     #[test]

@@ -33,7 +33,7 @@ pub fn run(args: &Args, out: &mut Output) -> Result<u8, CliError> {
         }
         Format::Json => {
             let doc = lint::to_json(&library);
-            out.line(&serde_json::to_string_pretty(&doc).unwrap_or_default())?;
+            out.line(&loadfit::text::to_json_pretty(&doc))?;
         }
     }
     Ok(u8::from(library.rows_rejected > 0))

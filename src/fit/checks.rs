@@ -4,7 +4,7 @@
 use super::{Check, CheckVerdict, Role};
 use crate::library::{Kind, Library, Part, Status};
 use crate::needs::{Bound, Needs, ids};
-use crate::needs::{photocell, thermal};
+use crate::needs::{photocell, thermal, worst};
 use crate::stage::Stage;
 use crate::units::{Amps, Celsius, Ohms, Watts};
 use crate::units::{Dim, format_eng};
@@ -173,8 +173,12 @@ fn derated(pd: f64, tj_max: Option<f64>, ambient: f64) -> f64 {
     .value()
 }
 
+/// The thermal checks of a switch dissipating `dissipation` at `ambient` (°C): the hotter of
+/// `rules.ambient` and `temperature_max` when the needs are worst-case.
+#[allow(clippy::too_many_arguments)]
 fn power_checks(
     stage: &Stage,
+    ambient: f64,
     dissipation: Option<f64>,
     pd: Option<f64>,
     tj_max: Option<f64>,
@@ -182,7 +186,6 @@ fn power_checks(
     how: String,
     checks: &mut Vec<Check>,
 ) {
-    let ambient = stage.rules.ambient.value();
     let required = dissipation.map(|p| p / stage.rules.power_derating);
     let derated = pd.map(|pd| derated(pd, tj_max, ambient));
     let mut check = at_least(
@@ -241,6 +244,8 @@ fn power_checks(
 
 fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
     let il = needs.value(ids::LOAD_CURRENT);
+    let worst_case = needs.is_worst_case();
+    let ambient = worst::thermal_ambient(stage, worst_case).value();
     if let Some(b) = part.bjt() {
         checks.push(at_least(
             ids::SWITCH_VOLTAGE,
@@ -280,17 +285,29 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
         }
         if let Some(il) = il {
             let vce_sat = b.vce_sat.get().unwrap_or(stage.assume.vce_sat.value());
-            let base = base_current(stage, needs);
-            let p = vce_sat * il + stage.assume.vbe_on.value() * base;
+            let (base, vbe) = if worst_case {
+                // The same bound as the switch.dissipation need: the most base current, the
+                // highest VBE.
+                let (ib, vbe) = worst::base_dissipation_drive(
+                    stage,
+                    needs.value(ids::SWITCH_BASE_RESISTOR).map(Ohms),
+                    Amps(il),
+                );
+                (ib.value(), vbe.value())
+            } else {
+                (base_current(stage, needs), stage.assume.vbe_on.value())
+            };
+            let p = vce_sat * il + vbe * base;
             let how = format!(
                 "P = VCE(sat)·IL + VBE·IB = {} × {} + {} × {}",
                 format_eng(vce_sat, Dim::Volt),
                 format_eng(il, Dim::Amp),
-                format_eng(stage.assume.vbe_on.value(), Dim::Volt),
+                format_eng(vbe, Dim::Volt),
                 format_eng(base, Dim::Amp)
             );
             power_checks(
                 stage,
+                ambient,
                 Some(p),
                 b.pd.get(),
                 b.tj_max.get(),
@@ -368,6 +385,7 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
             } else {
                 power_checks(
                     stage,
+                    ambient,
                     p,
                     m.pd.get(),
                     m.tj_max.get(),
@@ -432,7 +450,9 @@ pub fn own_coil_current(stage: &Stage, part: &Part) -> Option<f64> {
 
 fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
     let Some(r) = part.relay() else { return };
-    let coil = own_coil_current(stage, part);
+    // Worst case: the part's own coil taken cold, at the corner of the stage's coil current.
+    let cold = worst::coil_resistance_factor(stage, needs.is_worst_case());
+    let coil = own_coil_current(stage, part).map(|i| i / cold);
     let mut coil_check = at_most(
         ids::RELAY_COIL_CURRENT,
         "coil current",
@@ -443,12 +463,21 @@ fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
     if coil.is_some() {
         coil_check = with_note(
             coil_check,
-            format!(
-                "(Vs_max − V_sat) / coil_r = ({} − {}) / {}",
-                format_eng(stage.supply.max().value(), Dim::Volt),
-                format_eng(stage.v_sat().value(), Dim::Volt),
-                format_eng(r.coil_r.get().unwrap_or(0.0), Dim::Ohm)
-            ),
+            if needs.is_worst_case() {
+                format!(
+                    "(Vs_max − V_sat) / (coil_r × {cold:.4}) = ({} − {}) / ({} cold at temperature_min)",
+                    format_eng(stage.supply.max().value(), Dim::Volt),
+                    format_eng(stage.v_sat().value(), Dim::Volt),
+                    format_eng(r.coil_r.get().unwrap_or(0.0) * cold, Dim::Ohm)
+                )
+            } else {
+                format!(
+                    "(Vs_max − V_sat) / coil_r = ({} − {}) / {}",
+                    format_eng(stage.supply.max().value(), Dim::Volt),
+                    format_eng(stage.v_sat().value(), Dim::Volt),
+                    format_eng(r.coil_r.get().unwrap_or(0.0), Dim::Ohm)
+                )
+            },
         );
     } else {
         coil_check.note = Cow::Borrowed("coil_r not given: the coil current is unknown");

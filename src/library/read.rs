@@ -8,8 +8,10 @@ use super::part::{ContactForm, Kind, Part, Rating, Ratings, Source, Status, Sym}
 use super::{Diagnostic, Library, LoadError, limits, shorten};
 use crate::units::{self, Dim, ParseOptions};
 use std::borrow::Cow;
+use std::cell::Cell;
 use std::io::{BufRead, Read};
 use std::path::Path;
+use std::rc::Rc;
 
 /// A whole-source failure, before the path is attached.
 #[derive(Debug)]
@@ -18,6 +20,7 @@ pub(super) enum ReadError {
     Empty,
     MissingColumn { column: &'static str, found: String },
     TooManyColumns(usize),
+    OverLimit(String),
 }
 
 impl ReadError {
@@ -36,6 +39,7 @@ impl ReadError {
                 columns,
                 limit: limits::MAX_COLUMNS,
             },
+            ReadError::OverLimit(message) => LoadError::OverLimit { path, message },
         }
     }
 }
@@ -53,17 +57,31 @@ pub(super) fn read_reader<R: BufRead>(
     mut reader: R,
 ) -> Result<(), ReadError> {
     let head = reader.fill_buf().map_err(ReadError::Io)?;
-    if head.starts_with(&[0xFF, 0xFE]) || head.starts_with(&[0xFE, 0xFF]) {
-        // UTF-16 files are rare and small: decode whole, then read as UTF-8.
+    let utf16 = if head.starts_with(&[0xFF, 0xFE]) {
+        Some((encoding_rs::UTF_16LE, true))
+    } else if head.starts_with(&[0xFE, 0xFF]) {
+        Some((encoding_rs::UTF_16BE, true))
+    } else {
+        utf16_without_bom(head).map(|encoding| (encoding, false))
+    };
+    if let Some((encoding, bom)) = utf16 {
+        // UTF-16 files are rare and small: decode whole (up to a limit), then read as UTF-8.
         let mut raw = Vec::new();
-        reader.read_to_end(&mut raw).map_err(ReadError::Io)?;
-        let (text, encoding, _) = encoding_rs::Encoding::for_bom(&raw).map_or(
-            (Cow::Borrowed(""), encoding_rs::UTF_8, 0),
-            |(enc, _)| {
-                let (text, _) = enc.decode_with_bom_removal(&raw);
-                (text, enc, 0)
-            },
-        );
+        reader
+            .take(limits::MAX_UTF16_FILE_BYTES + 1)
+            .read_to_end(&mut raw)
+            .map_err(ReadError::Io)?;
+        if raw.len() as u64 > limits::MAX_UTF16_FILE_BYTES {
+            return Err(ReadError::OverLimit(format!(
+                "a UTF-16 file over {} MiB, the most loadfit decodes; save it as UTF-8",
+                limits::MAX_UTF16_FILE_BYTES >> 20
+            )));
+        }
+        let text = if bom {
+            encoding.decode_with_bom_removal(&raw).0
+        } else {
+            encoding.decode_without_bom_handling(&raw).0
+        };
         let file = push_file(library, name);
         warn(
             library,
@@ -72,8 +90,13 @@ pub(super) fn read_reader<R: BufRead>(
             "",
             "",
             format!(
-                "the file is {} text; it was decoded, but UTF-8 is preferred",
-                encoding.name()
+                "the file is {} text{}; it was decoded, but UTF-8 is preferred",
+                encoding.name(),
+                if bom {
+                    ""
+                } else {
+                    " without a byte-order mark"
+                }
             ),
         );
         let bytes = text.into_owned().into_bytes();
@@ -82,6 +105,28 @@ pub(super) fn read_reader<R: BufRead>(
     let delimiter = detect_delimiter(head);
     let file = push_file(library, name);
     read_records(library, file, reader, delimiter)
+}
+
+/// UTF-16 without a byte-order mark, told by its ASCII text: a NUL in every other byte (after
+/// each character in little endian, before it in big endian) and none in the other half.
+fn utf16_without_bom(head: &[u8]) -> Option<&'static encoding_rs::Encoding> {
+    let pairs = head.len().min(512) / 2;
+    if pairs < 2 {
+        return None;
+    }
+    let (mut even, mut odd) = (0, 0);
+    for pair in head[..pairs * 2].chunks_exact(2) {
+        even += usize::from(pair[0] == 0);
+        odd += usize::from(pair[1] == 0);
+    }
+    let most = pairs * 3 / 4;
+    if odd >= most && even == 0 {
+        Some(encoding_rs::UTF_16LE)
+    } else if even >= most && odd == 0 {
+        Some(encoding_rs::UTF_16BE)
+    } else {
+        None
+    }
 }
 
 fn push_file(library: &mut Library, name: &str) -> u32 {
@@ -97,7 +142,7 @@ fn detect_delimiter(head: &[u8]) -> u8 {
     for &byte in head {
         match byte {
             b'"' => quoted = !quoted,
-            b'\n' if !quoted => break,
+            b'\n' | b'\r' if !quoted => break,
             b',' if !quoted => counts[0] += 1,
             b';' if !quoted => counts[1] += 1,
             b'\t' if !quoted => counts[2] += 1,
@@ -146,23 +191,38 @@ fn read_records<R: Read>(
     reader: R,
     delimiter: u8,
 ) -> Result<(), ReadError> {
-    // Lines end at `\n` (a `\r` before it is trimmed with the cell): the csv crate's own line
-    // count drifts on CRLF files and skips empty lines, and diagnostics must name the line a
-    // spreadsheet shows. `BlankLineKeeper` makes empty lines visible so they are counted.
+    // Lines end at `\n` (a `\r` before it is trimmed with the cell; a lone `\r` is made a
+    // `\n`): the csv crate's own line count drifts on CRLF files and skips empty lines, and
+    // diagnostics must name the line a spreadsheet shows. `BlankLineKeeper` makes empty lines
+    // visible so they are counted, and stops a row at `limits::MAX_ROW_BYTES`: `row_start` is
+    // where the row being read began.
+    let row_start = Rc::new(Cell::new(0u64));
     let mut csv = csv::ReaderBuilder::new()
         .has_headers(false)
         .flexible(true)
         .delimiter(delimiter)
         .terminator(csv::Terminator::Any(b'\n'))
-        .from_reader(BlankLineKeeper::new(reader));
+        .from_reader(BlankLineKeeper::new(reader, Rc::clone(&row_start)));
     let mut record = csv::ByteRecord::new();
+    let line_of = |record: &csv::ByteRecord| record.position().map_or(0, |p| p.line() as u32);
 
     // The header: the first non-blank record.
     loop {
         match csv.read_byte_record(&mut record) {
             Ok(false) => return Err(ReadError::Empty),
-            Ok(true) if is_blank(&record) => {}
-            Ok(true) => break,
+            Ok(true) => {
+                row_start.set(csv.position().byte());
+                if !is_blank(&record) {
+                    break;
+                }
+            }
+            Err(e) if is_row_too_long(&e) => {
+                return Err(ReadError::OverLimit(format!(
+                    "line {}: {}",
+                    line_of(&record).max(1),
+                    row_too_long_message()
+                )));
+            }
             Err(e) => return Err(ReadError::Io(std::io::Error::other(e))),
         }
     }
@@ -172,11 +232,29 @@ fn read_records<R: Read>(
         match csv.read_byte_record(&mut record) {
             Ok(false) => break,
             Ok(true) => {
+                row_start.set(csv.position().byte());
                 if is_blank(&record) {
                     continue;
                 }
+                if library.rows >= library.row_limit() {
+                    let message = format!(
+                        "the library already holds {} rows, the most loadfit reads; this row and the rest of the file are not read: keep the parts you use in a smaller library",
+                        library.row_limit()
+                    );
+                    library.rows += 1;
+                    library.rows_rejected += 1;
+                    reject(library, &mut state, line_of(&record), "", "", message);
+                    break;
+                }
                 library.rows += 1;
                 read_row(library, &mut state, &record);
+            }
+            Err(e) if is_row_too_long(&e) => {
+                library.rows += 1;
+                library.rows_rejected += 1;
+                let message = row_too_long_message();
+                reject(library, &mut state, line_of(&record), "", "", message);
+                break;
             }
             Err(e) => {
                 let line = e.position().map_or(0, |p| p.line() as u32);
@@ -206,66 +284,144 @@ fn read_records<R: Read>(
     Ok(())
 }
 
+/// The error a row over [`limits::MAX_ROW_BYTES`] ends the reading with.
+#[derive(Debug)]
+struct RowTooLong;
+
+impl std::fmt::Display for RowTooLong {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&row_too_long_message())
+    }
+}
+
+impl std::error::Error for RowTooLong {}
+
+fn row_too_long_message() -> String {
+    format!(
+        "a row over {} MiB, the most loadfit reads (a quote left open, or not a parts library); the rest of the file is not read",
+        limits::MAX_ROW_BYTES >> 20
+    )
+}
+
+fn is_row_too_long(error: &csv::Error) -> bool {
+    match error.kind() {
+        csv::ErrorKind::Io(e) => e.get_ref().is_some_and(|inner| inner.is::<RowTooLong>()),
+        _ => false,
+    }
+}
+
 /// A reader that puts a space on every empty line, so the csv reader sees a blank record there
-/// (which loadfit skips) instead of skipping the line uncounted.
+/// (which loadfit skips) instead of skipping the line uncounted; that turns a lone CR (classic
+/// Mac line ends, or one mixed into a CRLF file) into a line end; and that fails with
+/// [`RowTooLong`] once more than [`limits::MAX_ROW_BYTES`] have been read since `row_start`.
 struct BlankLineKeeper<R> {
     inner: R,
     buffer: Vec<u8>,
     start: usize,
     last: u8,
+    /// A CR that ended the last chunk, held back to see whether an LF follows it.
+    pending_cr: bool,
+    /// Bytes handed to the csv reader so far.
+    delivered: u64,
+    /// Where the row being read began, in delivered bytes (set by the row loop).
+    row_start: Rc<Cell<u64>>,
 }
 
 impl<R: Read> BlankLineKeeper<R> {
-    fn new(inner: R) -> Self {
+    fn new(inner: R, row_start: Rc<Cell<u64>>) -> Self {
         BlankLineKeeper {
             inner,
             buffer: Vec::new(),
             start: 0,
             last: b'\n',
+            pending_cr: false,
+            delivered: 0,
+            row_start,
         }
+    }
+
+    /// Reads the next chunk into `buffer`; false at the end of the input.
+    fn fill(&mut self) -> std::io::Result<bool> {
+        self.buffer.clear();
+        if self.pending_cr {
+            self.buffer.push(b'\r');
+        }
+        let held = self.buffer.len();
+        self.buffer.resize(held + 128 * 1024, 0);
+        let n = self.inner.read(&mut self.buffer[held..])?;
+        self.buffer.truncate(held + n);
+        self.start = 0;
+        self.pending_cr = false;
+        if self.buffer.is_empty() {
+            return Ok(false);
+        }
+        // A CR ending the chunk may be the first half of a CRLF: it waits for the next chunk
+        // (at the end of the input it is a lone CR, and becomes a line end below).
+        if n > 0 && self.buffer.last() == Some(&b'\r') {
+            self.buffer.pop();
+            self.pending_cr = true;
+        }
+        let mut from = 0;
+        while let Some(at) = memchr::memchr(b'\r', &self.buffer[from..]) {
+            let i = from + at;
+            if self.buffer.get(i + 1) != Some(&b'\n') {
+                self.buffer[i] = b'\n';
+            }
+            from = i + 1;
+        }
+        let empty_line = |i: usize, buffer: &[u8], last: u8| {
+            if i == 0 {
+                last == b'\n'
+            } else {
+                buffer[i - 1] == b'\n'
+            }
+        };
+        if memchr::memchr_iter(b'\n', &self.buffer).any(|i| empty_line(i, &self.buffer, self.last))
+        {
+            let mut fixed = Vec::with_capacity(self.buffer.len() + 64);
+            let mut from = 0;
+            for i in memchr::memchr_iter(b'\n', &self.buffer) {
+                if empty_line(i, &self.buffer, self.last) {
+                    fixed.extend_from_slice(&self.buffer[from..i]);
+                    fixed.push(b' ');
+                    from = i;
+                }
+            }
+            fixed.extend_from_slice(&self.buffer[from..]);
+            self.buffer = fixed;
+        }
+        self.last = *self.buffer.last().unwrap_or(&self.last);
+        Ok(true)
     }
 }
 
 impl<R: Read> Read for BlankLineKeeper<R> {
     fn read(&mut self, out: &mut [u8]) -> std::io::Result<usize> {
-        if self.start >= self.buffer.len() {
-            self.buffer.resize(128 * 1024, 0);
-            let n = self.inner.read(&mut self.buffer)?;
-            self.buffer.truncate(n);
-            self.start = 0;
-            if n == 0 {
+        if self.delivered.saturating_sub(self.row_start.get()) > limits::MAX_ROW_BYTES {
+            return Err(std::io::Error::new(
+                std::io::ErrorKind::InvalidData,
+                RowTooLong,
+            ));
+        }
+        // A chunk may come back empty (a lone CR held back), so fill until there is data.
+        while self.start >= self.buffer.len() {
+            if !self.fill()? {
                 return Ok(0);
             }
-            let empty_line = |i: usize, buffer: &[u8], last: u8| {
-                if i == 0 {
-                    last == b'\n'
-                } else {
-                    buffer[i - 1] == b'\n'
-                }
-            };
-            if memchr::memchr_iter(b'\n', &self.buffer)
-                .any(|i| empty_line(i, &self.buffer, self.last))
-            {
-                let mut fixed = Vec::with_capacity(self.buffer.len() + 64);
-                let mut from = 0;
-                for i in memchr::memchr_iter(b'\n', &self.buffer) {
-                    if empty_line(i, &self.buffer, self.last) {
-                        fixed.extend_from_slice(&self.buffer[from..i]);
-                        fixed.push(b' ');
-                        from = i;
-                    }
-                }
-                fixed.extend_from_slice(&self.buffer[from..]);
-                self.buffer = fixed;
-            }
-            self.last = *self.buffer.last().unwrap_or(&self.last);
         }
         let available = &self.buffer[self.start..];
         let n = available.len().min(out.len());
         out[..n].copy_from_slice(&available[..n]);
         self.start += n;
+        self.delivered += n as u64;
         Ok(n)
     }
+}
+
+/// What is trimmed from a cell: white space, and the byte-order mark a file pasted onto another
+/// leaves at the start of a line.
+fn is_trimmed(c: char) -> bool {
+    c.is_whitespace() || c == '\u{feff}'
 }
 
 fn is_blank(record: &csv::ByteRecord) -> bool {
@@ -331,10 +487,11 @@ fn plan_header(
             .trim()
             .to_string();
         let text = text.trim_start_matches('\u{feff}').trim().to_string();
+        // Shortened: the name is copied into every diagnostic of the column.
         let display = if text.is_empty() {
             format!("column {}", index + 1)
         } else {
-            text.clone()
+            shorten(&text)
         };
         let name = normalise_header(&text);
         state.header_keys.push(name.key.clone());
@@ -432,28 +589,8 @@ fn plan_known(
 fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteRecord) {
     let line = record.position().map_or(0, |p| p.line() as u32);
     let columns = state.header.len();
-    if record.len() != columns {
-        let spans = record.iter().any(|f| f.contains(&b'\n'));
-        let hint = if spans {
-            "; a cell spans lines: a quote may be left open"
-        } else {
-            ""
-        };
-        let preview: Vec<String> = record
-            .iter()
-            .take(3)
-            .map(|f| String::from_utf8_lossy(f).into_owned())
-            .collect();
-        let message = format!(
-            "the row has {} fields, the header has {columns}{hint}",
-            record.len()
-        );
-        library.rows_rejected += 1;
-        reject(library, state, line, "", &preview.join(","), message);
-        return;
-    }
     if let Some((index, swallowed)) = swallowed_rows(record, state.delimiter, columns) {
-        let column = state.header[index].clone();
+        let column = state.header.get(index).cloned().unwrap_or_default();
         let text =
             String::from_utf8_lossy(&record[index][..record[index].len().min(200)]).into_owned();
         library.rows_rejected += 1;
@@ -467,6 +604,30 @@ fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteReco
                 "a quote opened in this cell is not closed where the row ends: the cell runs over {swallowed} more lines that look like rows; close the quote"
             ),
         );
+        return;
+    }
+    if record.len() != columns {
+        // A cell holding a line end here is most likely a quote left open: name its column.
+        let spans = record.iter().position(|f| f.contains(&b'\n'));
+        let (column, hint) = match spans {
+            Some(index) => (
+                state.header.get(index).cloned().unwrap_or_default(),
+                "; a cell spans lines: a quote may be left open",
+            ),
+            None => (String::new(), ""),
+        };
+        let preview: Vec<String> = record
+            .iter()
+            .take(3)
+            .map(|f| String::from_utf8_lossy(&f[..f.len().min(200)]).into_owned())
+            .collect();
+        let message = format!(
+            "the row has {} field{}, the header has {columns}{hint}",
+            record.len(),
+            if record.len() == 1 { "" } else { "s" }
+        );
+        library.rows_rejected += 1;
+        reject(library, state, line, &column, &preview.join(","), message);
         return;
     }
     if let Some((index, raw)) = record
@@ -508,7 +669,7 @@ fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteReco
         "part",
         &record[state.part_column],
     )
-    .trim()
+    .trim_matches(is_trimmed)
     .to_string();
     let kind_cell = decode(
         library,
@@ -518,7 +679,7 @@ fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteReco
         "kind",
         &record[state.kind_column],
     );
-    let kind_text = kind_cell.trim();
+    let kind_text = kind_cell.trim_matches(is_trimmed);
     if number.is_empty() {
         problems.push((
             state.part_column,
@@ -576,7 +737,7 @@ fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteReco
             &state.header[index],
             raw,
         );
-        let cell = cell.trim();
+        let cell = cell.trim_matches(is_trimmed);
         match state.plans[index] {
             Plan::Extra(id) => extra.push((id, cell.into())),
             Plan::Known { spec, scale } => {
@@ -653,8 +814,13 @@ fn swallowed_rows(
 }
 
 fn is_repeated_header(state: &FileState, record: &csv::ByteRecord) -> bool {
-    // Cheap test first, without allocating: the part cell must repeat the header's text.
-    if !record[state.part_column]
+    // Cheap test first, without allocating: the part cell must repeat the header's text (after
+    // the byte-order mark of a file pasted onto this one).
+    let cell = record[state.part_column].trim_ascii();
+    let cell = cell
+        .strip_prefix(b"\xEF\xBB\xBF".as_slice())
+        .unwrap_or(cell);
+    if !cell
         .trim_ascii()
         .eq_ignore_ascii_case(state.header[state.part_column].as_bytes())
     {
@@ -849,13 +1015,22 @@ fn store(library: &mut Library, file: u32, rejected: bool, diagnostic: Diagnosti
     }
 }
 
+/// A message cut to [`limits::MAX_MESSAGE_CHARS`]: messages quote the cell, which may be long.
+fn cut(mut message: String) -> String {
+    if let Some((at, _)) = message.char_indices().nth(limits::MAX_MESSAGE_CHARS) {
+        message.truncate(at);
+        message.push('…');
+    }
+    message
+}
+
 fn warn(library: &mut Library, file: u32, line: u32, column: &str, text: &str, message: String) {
     let diagnostic = Diagnostic {
         file,
         line: line.max(1),
         column: column.to_string(),
         text: shorten(text),
-        message,
+        message: cut(message),
     };
     store(library, file, false, diagnostic);
 }
@@ -873,7 +1048,7 @@ fn reject(
         line: line.max(1),
         column: column.to_string(),
         text: shorten(text),
-        message,
+        message: cut(message),
     };
     store(library, state.file, true, diagnostic);
 }

@@ -10,21 +10,80 @@ use super::relay;
 use super::switching::{self, OffState};
 use super::thermal;
 use super::timing;
+use super::worst::{self, Corner, Extreme, Factor};
 use super::{Bound, Need, Needs, Problem, Severity, Unit, Worked, ids, sources};
 use crate::library::{Kind, Library, Part};
 use crate::stage::{Activate, ClampType, DriveSource, LoadType, Sensor, Stage, SwitchType};
 use crate::units::{Amps, Dim, Farads, Henries, Lux, Ohms, Volts, format_eng, format_number};
 
-/// Computes every need of `stage`. `library`, when given, supplies the figures of the relay
-/// (`load.relay`) and photocell (`sensor.part`) the stage names, and those parts are held
-/// against their needs; without it only the stage's own figures are used.
+/// Computes every need of `stage`: at nominal, or at the worst corners when
+/// `rules.worst_case` is on (each need then carries its corner and its nominal value).
+/// `library`, when given, supplies the figures of the relay (`load.relay`) and photocell
+/// (`sensor.part`) the stage names, and those parts are held against their needs; without it
+/// only the stage's own figures are used.
 ///
 /// Never fails: what cannot be computed is left out or unbounded, with a problem saying why.
 #[must_use]
 pub fn compute(stage: &Stage, library: Option<&Library>) -> Needs {
+    if stage.rules.worst_case {
+        compute_both(stage, library).worst
+    } else {
+        compute_nominal(stage, library)
+    }
+}
+
+/// The needs at nominal (supply within its tolerance, 20-25 °C, picked resistors at their
+/// values), whatever `rules.worst_case` says.
+#[must_use]
+pub fn compute_nominal(stage: &Stage, library: Option<&Library>) -> Needs {
+    run(stage, library, None)
+}
+
+/// The nominal and the worst-case needs of a stage, both computed whatever `rules.worst_case`
+/// says: what a view needs to show them side by side or to switch between them.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Cases {
+    /// The needs at nominal, as [`compute_nominal`] gives them.
+    pub nominal: Needs,
+    /// The needs at their worst corners: every need carries its [`Corner`](super::Corner)
+    /// and its nominal value ([`Need::nominal`](super::Need::nominal)); the problems are those
+    /// of the worst case.
+    pub worst: Needs,
+}
+
+/// Computes the needs of `stage` at nominal and at the worst corners (see [`Cases`]).
+#[must_use]
+pub fn compute_both(stage: &Stage, library: Option<&Library>) -> Cases {
+    let nominal = compute_nominal(stage, library);
+    let mut worst = run(
+        stage,
+        library,
+        Some((worst::Conditions::of(stage), &nominal)),
+    );
+    for need in &mut worst.needs {
+        need.nominal = nominal.value(need.id);
+        if need.corner.is_none() {
+            need.corner = Some(Corner::none());
+            need.working.push(
+                "worst corner: none (no factor of supply, temperature or tolerance moves this figure)"
+                    .to_string(),
+            );
+        }
+    }
+    Cases { nominal, worst }
+}
+
+fn run<'a>(
+    stage: &'a Stage,
+    library: Option<&'a Library>,
+    worst: Option<(worst::Conditions, &'a Needs)>,
+) -> Needs {
     let mut builder = Builder {
         stage,
         library,
+        worst: worst.map(|(c, _)| c),
+        nominal: worst.map(|(_, n)| n),
+        il_corner: Corner::none(),
         out: Needs {
             stage: stage.title.clone(),
             needs: Vec::new(),
@@ -50,6 +109,10 @@ struct Divider {
     drive: Worked<Amps>,
     /// Open-circuit node voltage one decade past the switching level, at Vs_min.
     open: Volts,
+    /// Worst case: the corner `drive` is taken at (its lowest over r10 and the fixed resistor).
+    drive_corner: Corner,
+    /// Worst case: the corner `open` is taken at (its lowest).
+    open_corner: Corner,
     /// Where r10, gamma and the tolerance came from, for the working.
     origin: String,
 }
@@ -57,6 +120,12 @@ struct Divider {
 struct Builder<'a> {
     stage: &'a Stage,
     library: Option<&'a Library>,
+    /// The worst-case conditions; `None` for a nominal computation.
+    worst: Option<worst::Conditions>,
+    /// In a worst-case computation, the nominal needs: the design's picks are read from them.
+    nominal: Option<&'a Needs>,
+    /// The corner the load current is taken at (worst case), inherited by the needs built on it.
+    il_corner: Corner,
     out: Needs,
 }
 
@@ -97,6 +166,25 @@ impl<'a> Builder<'a> {
             worked.working,
             worked.source,
         );
+    }
+
+    /// Marks need `id` as taken at `corner` (worst case), adding `lines` and the corner's name
+    /// to its working.
+    fn set_corner(&mut self, id: &'static str, corner: &Corner, lines: Vec<String>) {
+        if self.worst.is_none() {
+            return;
+        }
+        if let Some(need) = self.out.needs.iter_mut().find(|n| n.id == id) {
+            need.working.extend(lines);
+            need.working.push(format!("worst corner: {corner}"));
+            need.corner = Some(corner.clone());
+        }
+    }
+
+    /// A design figure (a picked resistor) of the nominal computation, which the worst case
+    /// keeps: the worst case evaluates the design at its corners, it does not redesign it.
+    fn nominal_value(&self, id: &str) -> Option<f64> {
+        self.nominal.and_then(|n| n.value(id))
     }
 
     fn problem(&mut self, severity: Severity, need: Option<&'static str>, message: String) {
@@ -186,6 +274,10 @@ impl<'a> Builder<'a> {
             "Vs × (1 - tolerance)",
             min,
         );
+        let supply_max = Corner::none().with(Factor::Supply, Extreme::Max);
+        let supply_min = Corner::none().with(Factor::Supply, Extreme::Min);
+        self.set_corner(ids::SUPPLY_MAX, &supply_max, Vec::new());
+        self.set_corner(ids::SUPPLY_MIN, &supply_min, Vec::new());
 
         let relay_part = self.relay_part();
         let (resistance, inductance) = self.coil_figures(relay_part);
@@ -195,7 +287,10 @@ impl<'a> Builder<'a> {
         self.off_state(vs_max, il, inductance);
         if let Some(il) = il {
             if stage.switch.kind.has_bjt_drive() {
-                self.bjt_drive(il, divider.as_ref());
+                match self.worst {
+                    Some(w) => self.bjt_drive_worst(w, il, divider.as_ref()),
+                    None => self.bjt_drive(il, divider.as_ref()),
+                }
             }
             if stage.switch.kind.has_mosfet_drive() {
                 self.mosfet_drive(divider.as_ref());
@@ -292,7 +387,13 @@ impl<'a> Builder<'a> {
         if stage.load.kind == LoadType::Led {
             return self.led(vs_max, v_sat);
         }
-        let r = resistance?;
+        let r20 = resistance?;
+        // Worst case: a coil at its coldest, before its own current warms it, draws most.
+        let cold = match self.worst {
+            Some(w) if stage.load.kind.is_coil() => Some(w),
+            _ => None,
+        };
+        let r = cold.map_or(r20, |w| r20 * w.coil_cold());
         let Some(worked) = switching::load_current(vs_max, v_sat, r) else {
             let message = format!(
                 "the supply ({vs_max} at most) does not exceed the switch's V_sat ({v_sat}): no current can flow"
@@ -319,11 +420,28 @@ impl<'a> Builder<'a> {
             Bound::Value,
             Unit::Amp,
             il.0,
-            "(Vs_max - V_sat) / R",
+            if cold.is_some() {
+                "(Vs_max - V_sat) / (R × (1 + α (temperature_min - 20)))"
+            } else {
+                "(Vs_max - V_sat) / R"
+            },
             worked,
         );
+        if self.worst.is_some() {
+            let mut corner = Corner::none().with(Factor::Supply, Extreme::Max);
+            let mut lines = Vec::new();
+            if let Some(w) = cold {
+                corner = corner.with(Factor::Temperature, Extreme::Min);
+                lines.push(w.cold_coil_line(r20));
+                lines.push(
+                    "a cold coil draws most: its resistance is lowest before its own current warms it (stage and part figures are at 20 °C)".to_string(),
+                );
+            }
+            self.set_corner(ids::LOAD_CURRENT, &corner, lines);
+            self.il_corner = corner;
+        }
         if let (LoadType::Capacitive, Some(c)) = (stage.load.kind, stage.load.capacitance) {
-            self.rc(r, c);
+            self.rc(r20, c);
         }
         Some(il)
     }
@@ -334,19 +452,54 @@ impl<'a> Builder<'a> {
             // The stage reader requires both for an LED load.
             return None;
         };
+        let series = stage.rules.eseries;
+        let pick = switching::led_series_resistor(vs_max, vf, v_sat, current, series);
+        // Worst case: the picked resistor at its low tolerance lets the most current through;
+        // never less than the set current, which the design already allows for.
+        let low = match (self.worst, &pick) {
+            (Some(w), Some(p)) => {
+                let r_low = Ohms(p.value.value()) * (1.0 - w.tolerance);
+                let at: Amps = (vs_max - vf - v_sat) / r_low;
+                Some((w, r_low, at))
+            }
+            _ => None,
+        };
+        let il = low.map_or(current, |(_, _, at)| at.max(current));
         self.need(
             ids::LOAD_CURRENT,
             Bound::Value,
             Unit::Amp,
-            Some(current.0),
-            "led_current",
+            Some(il.0),
+            if low.is_some() {
+                "max(led_current, (Vs_max - led_vf - V_sat) / (R × (1 - tol)))"
+            } else {
+                "led_current"
+            },
             vec![format!(
                 "IL = led_current = {current}: the series resistor sets it"
             )],
             sources::CIRCUIT_THEORY,
         );
-        let series = stage.rules.eseries;
-        match switching::led_series_resistor(vs_max, vf, v_sat, current, series) {
+        if let Some((w, r_low, at)) = low {
+            // When the set current is the larger, no corner moves the figure.
+            let corner = if at.0 > current.0 {
+                Corner::none()
+                    .with(Factor::Supply, Extreme::Max)
+                    .with(Factor::SeriesResistor, Extreme::MinusTol)
+            } else {
+                Corner::none()
+            };
+            let lines = vec![
+                format!(
+                    "series resistor at -{}: {r_low}; I = (Vs_max - VF - V_sat) / R = ({vs_max} - {vf} - {v_sat}) / {r_low} = {at}",
+                    format_eng(w.tolerance, Dim::Percent)
+                ),
+                format!("IL = the larger of that and led_current = {il}"),
+            ];
+            self.set_corner(ids::LOAD_CURRENT, &corner, lines);
+            self.il_corner = corner;
+        }
+        match pick {
             Some(worked) => {
                 let r = Ohms(worked.value.value());
                 self.worked(
@@ -357,8 +510,10 @@ impl<'a> Builder<'a> {
                     "E-series >= (Vs_max - led_vf - V_sat) / led_current",
                     worked,
                 );
-                let actual: Amps = (vs_max - vf - v_sat) / r;
-                let p = switching::resistor_power(actual, r);
+                // Worst case: the resistor at its low tolerance dissipates most, V² / R.
+                let r_at = low.map_or(r, |(_, r_low, _)| r_low);
+                let actual: Amps = (vs_max - vf - v_sat) / r_at;
+                let p = switching::resistor_power(actual, r_at);
                 let worked = switching::derated(
                     p.0,
                     stage.rules.power_derating,
@@ -366,7 +521,9 @@ impl<'a> Builder<'a> {
                     "P(R)",
                     "power_derating",
                 )
-                .with(format!("P(R) = I² R = ({actual})² × {r} = {p} at Vs_max"));
+                .with(format!(
+                    "P(R) = I² R = ({actual})² × {r_at} = {p} at Vs_max"
+                ));
                 self.worked(
                     ids::LOAD_SERIES_RESISTOR_POWER,
                     Bound::Min,
@@ -375,6 +532,16 @@ impl<'a> Builder<'a> {
                     "I² R / power_derating",
                     worked,
                 );
+                if let Some((w, _, _)) = low {
+                    let corner = Corner::none()
+                        .with(Factor::Supply, Extreme::Max)
+                        .with(Factor::SeriesResistor, Extreme::MinusTol);
+                    let line = format!(
+                        "the resistor at -{} of {r}: {r_at}, where it dissipates most",
+                        format_eng(w.tolerance, Dim::Percent)
+                    );
+                    self.set_corner(ids::LOAD_SERIES_RESISTOR_POWER, &corner, vec![line]);
+                }
             }
             None => {
                 let message = format!(
@@ -383,7 +550,7 @@ impl<'a> Builder<'a> {
                 self.problem(Severity::Error, Some(ids::LOAD_SERIES_RESISTOR), message);
             }
         }
-        Some(current)
+        Some(il)
     }
 
     fn rc(&mut self, r: Ohms, c: Farads) {
@@ -488,6 +655,11 @@ impl<'a> Builder<'a> {
                 "a switch's IC max (BJT) or ID max (MOSFET) must be at least this",
             );
         }
+        let supply_max = Corner::none().with(Factor::Supply, Extreme::Max);
+        self.set_corner(ids::SWITCH_OFF_PEAK, &supply_max, Vec::new());
+        self.set_corner(ids::SWITCH_VOLTAGE, &supply_max, Vec::new());
+        let il_corner = self.il_corner.clone();
+        self.set_corner(ids::SWITCH_CURRENT, &il_corner, Vec::new());
     }
 
     /// The base drive of a BJT switch, from a logic output or straight from the divider.
@@ -669,10 +841,322 @@ impl<'a> Builder<'a> {
         );
     }
 
+    /// The base drive of a BJT switch at its worst corners: the nominal design's base resistor
+    /// at +tolerance, VBE at temperature_min, the drive at its lowest, hFE at temperature_min;
+    /// `switch.gain` is then the hFE a part needs at 25 °C to saturate in the cold.
+    fn bjt_drive_worst(&mut self, w: worst::Conditions, il: Amps, divider: Option<&Divider>) {
+        let stage = self.stage;
+        let vbe = stage.assume.vbe_on;
+        let vbe_cold = w.vbe_at(vbe, w.t_min);
+        let hfe = w.hfe_factor(w.t_min);
+        let beta = stage.switch.forced_beta;
+        let photocell = stage.drive.source == DriveSource::Photocell;
+        let follows = worst::drive_follows_supply(stage);
+        let limit = if photocell {
+            divider.map(|d| d.drive.value)
+        } else {
+            stage.drive.max_current
+        };
+        if photocell && divider.is_none() {
+            // The divider could not be worked out; its problem says why.
+            return;
+        }
+        if let Some(available) = limit
+            && available.0 <= 0.0
+        {
+            let message = format!(
+                "at the worst corner the photocell divider gives no current to the switch ({available} one decade past the switching level): lower the threshold or the fixed resistor, or add a buffer stage"
+            );
+            self.problem(Severity::Error, Some(ids::SWITCH_BASE_CURRENT), message);
+            return;
+        }
+        let (mut worked, capped) = switching::base_current(il, beta, limit);
+        if photocell {
+            worked = worked.with(format!(
+                "the divider drives the base directly (no base resistor); at its worst corner it can give {} ({})",
+                limit.map_or_else(String::new, |a| a.to_string()),
+                ids::SENSOR_DRIVE_CURRENT
+            ));
+        }
+        let ib = worked.value;
+        self.worked(
+            ids::SWITCH_BASE_CURRENT,
+            Bound::Value,
+            Unit::Amp,
+            ib.0,
+            "IL / forced_beta",
+            worked,
+        );
+        let corner = match (capped, divider) {
+            (true, Some(d)) if photocell => d.drive_corner.clone(),
+            // A logic source's max_current is a fixed figure.
+            (true, _) => Corner::none(),
+            (false, _) => self.il_corner.clone(),
+        };
+        self.set_corner(ids::SWITCH_BASE_CURRENT, &corner, Vec::new());
+        if capped {
+            let source = if photocell {
+                "at its worst corner the photocell divider".to_string()
+            } else {
+                format!(
+                    "[drive] max_current {}",
+                    limit.map_or_else(String::new, |a| a.to_string())
+                )
+            };
+            let message = format!(
+                "{source} caps the base current at {ib}, below IL / forced_beta = {}: the switch needs an hFE of at least {} to saturate; a MOSFET or a Darlington may suit better",
+                il / beta,
+                format_number(il / ib)
+            );
+            self.problem(Severity::Warning, Some(ids::SWITCH_BASE_CURRENT), message);
+        }
+        let hfe_line = format!(
+            "hFE at temperature_min {} is 1 + hfe_tempco × (temperature_min - 25 °C) = 1 + {}/K × ({} K) = {hfe:.3} of its 25 °C value (hfe_tempco {}: common practice, from memory), so hFE(25 °C) must be IL / IB / {hfe:.3}",
+            w.t_min,
+            format_number(w.hfe_tempco),
+            format_number(w.t_min.0 - 25.0),
+            format_eng(w.hfe_tempco, Dim::PercentPerKelvin)
+        );
+        let vbe_line = format!(
+            "VBE at temperature_min {} = vbe_on - vbe_tempco × (25 °C - temperature_min) = {vbe} - ({}) × {} K = {vbe_cold}",
+            w.t_min,
+            format_eng(w.vbe_tempco, Dim::VoltPerKelvin),
+            format_number(25.0 - w.t_min.0)
+        );
+        let drive_line = if photocell {
+            String::new()
+        } else if follows {
+            "drive.high is the supply rail: taken at Vs_min, its lowest, against the load current at Vs_max, each at its own worst end".to_string()
+        } else {
+            format!(
+                "drive.high {} is taken as given (the stage gives it no tolerance)",
+                stage.drive.high
+            )
+        };
+        let mut rb_picked = None;
+        let gain = if photocell {
+            // As the nominal does, the load at Vs_max (its largest) against the divider at
+            // Vs_min (its weakest corner): a bound over the supply, so the corner names no
+            // supply end.
+            let g = il / ib / hfe;
+            let mut corner = match divider {
+                Some(d) if capped => d.drive_corner.clone(),
+                _ => Corner::none(),
+            };
+            for (factor, extreme) in self.il_corner.entries() {
+                corner = corner.with(*factor, *extreme);
+            }
+            let corner = corner
+                .without(Factor::Supply)
+                .with(Factor::Temperature, Extreme::Min);
+            let line = format!(
+                "hFE_min = IL / IB / {hfe:.3} = {il} / {ib} / {hfe:.3} = {}; the load current at Vs_max (its largest), the divider at Vs_min (its weakest): each at its own worst end of the supply",
+                format_number(g)
+            );
+            Some((g, corner, line))
+        } else {
+            // The drive at its lowest (Vs_min when it is the supply rail) against the load
+            // current at its largest (Vs_max): each factor at its own worst end, as the nominal
+            // pairs Vs_max with the drive. The drive is a factor of its own for that reason.
+            let drive = worst::drive_at(stage, false);
+            let with_drive = |corner: Corner| {
+                if follows {
+                    corner.with(Factor::Drive, Extreme::Min)
+                } else {
+                    corner
+                }
+            };
+            let across = drive - vbe_cold;
+            if across.0 <= 0.0 || ib.0 <= 0.0 {
+                let message = format!(
+                    "in the cold VBE rises to {vbe_cold} (temperature_min {}): the drive's high level {drive} does not exceed it, so a BJT cannot be turned on there; raise [drive] high or use a MOSFET",
+                    w.t_min
+                );
+                self.problem(
+                    Severity::Error,
+                    Some(ids::SWITCH_BASE_RESISTOR_MAX),
+                    message,
+                );
+                return;
+            }
+            let rb_max: Ohms = across / (ib * (1.0 + w.tolerance));
+            self.need(
+                ids::SWITCH_BASE_RESISTOR_MAX,
+                Bound::Max,
+                Unit::Ohm,
+                Some(rb_max.0),
+                "(high - VBE(temperature_min)) / (base_current × (1 + tol))",
+                vec![
+                    format!(
+                        "RB_max = (V_high - VBE) / (IB × (1 + tol)) = ({drive} - {vbe_cold}) / ({ib} × (1 + {})) = {rb_max}",
+                        format_number(w.tolerance)
+                    ),
+                    vbe_line.clone(),
+                    drive_line.clone(),
+                    "the largest nominal resistor that, at the top of its tolerance in the cold, still gives the base current".to_string(),
+                ],
+                sources::CIRCUIT_THEORY,
+            );
+            // A capped base current is the source's figure: the load current does not move it.
+            let base = if capped {
+                Corner::none()
+            } else {
+                self.il_corner.clone()
+            };
+            let corner = with_drive(
+                base.with(Factor::Temperature, Extreme::Min)
+                    .with(Factor::Resistor, Extreme::PlusTol),
+            );
+            self.set_corner(ids::SWITCH_BASE_RESISTOR_MAX, &corner, Vec::new());
+            let Some(rb) = self.nominal_value(ids::SWITCH_BASE_RESISTOR).map(Ohms) else {
+                self.problem(
+                    Severity::Error,
+                    Some(ids::SWITCH_BASE_RESISTOR),
+                    "no base resistor could be picked at nominal (the nominal needs say why), so the worst case cannot evaluate the drive".to_string(),
+                );
+                return;
+            };
+            rb_picked = Some(rb);
+            let rb_high = rb * (1.0 + w.tolerance);
+            let mut working = vec![
+                format!(
+                    "the nominal design's {} pick, {rb}: the worst case evaluates the design at its corners, it does not re-pick",
+                    stage.rules.eseries
+                ),
+                format!("at +{}: {rb_high}", format_eng(w.tolerance, Dim::Percent)),
+            ];
+            if rb.0 > rb_max.0 * (1.0 + 1e-9) {
+                working.push(format!(
+                    "above base_resistor_max at the worst corner ({rb_max}): there the base gets less than IL / forced_beta, and switch.gain gives the hFE that still saturates"
+                ));
+            }
+            self.need(
+                ids::SWITCH_BASE_RESISTOR,
+                Bound::Value,
+                Unit::Ohm,
+                Some(rb.0),
+                "the nominal pick, taken at +tol",
+                working,
+                eseries::SOURCE,
+            );
+            self.set_corner(
+                ids::SWITCH_BASE_RESISTOR,
+                &Corner::none().with(Factor::Resistor, Extreme::PlusTol),
+                Vec::new(),
+            );
+            // The corner that draws most from a limited source: drive high, VBE hot, -tol.
+            if let Some(max_current) = stage.drive.max_current {
+                let top = worst::drive_at(stage, true);
+                let vbe_hot = w.vbe_at(vbe, w.t_max);
+                let drawn: Amps = (top - vbe_hot) / (rb * (1.0 - w.tolerance));
+                if drawn.0 > max_current.0 * (1.0 + 1e-9) {
+                    let message = format!(
+                        "at the corner that draws most (drive {top}, VBE {vbe_hot} at temperature_max {}, resistor at -{}) the base resistor {rb} draws {drawn} from the drive, above [drive] max_current {max_current}: take the next value up or check the source's margin",
+                        w.t_max,
+                        format_eng(w.tolerance, Dim::Percent)
+                    );
+                    self.problem(Severity::Warning, Some(ids::SWITCH_BASE_RESISTOR), message);
+                }
+            }
+            let through: Amps = across / rb_high;
+            let g = il / through / hfe;
+            let corner = with_drive(
+                self.il_corner
+                    .clone()
+                    .with(Factor::Temperature, Extreme::Min)
+                    .with(Factor::Resistor, Extreme::PlusTol),
+            );
+            let line = format!(
+                "IB = (V_high - VBE) / (RB × (1 + tol)) = ({drive} - {vbe_cold}) / {rb_high} = {through}; hFE_min = IL / IB / {hfe:.3} = {il} / {through} / {hfe:.3} = {}",
+                format_number(g)
+            );
+            Some((g, corner, line))
+        };
+        let Some((g, corner, line)) = gain else {
+            return;
+        };
+        let mut working = vec![line];
+        if !photocell {
+            working.push(vbe_line);
+            working.push(drive_line);
+        }
+        working.push(hfe_line);
+        working.push("a part whose hFE at this collector current (at 25 °C) is lower comes out of saturation in the cold".to_string());
+        self.need(
+            ids::SWITCH_GAIN,
+            Bound::Min,
+            Unit::None,
+            Some(g),
+            if photocell {
+                "IL / IB(divider at its weakest) / (1 + hfe_tempco × (temperature_min - 25))"
+            } else {
+                "IL / IB(temperature_min, RB at +tol, drive lowest) / (1 + hfe_tempco × (temperature_min - 25))"
+            },
+            working,
+            worst::SOURCE_TEMPERATURE,
+        );
+        self.set_corner(ids::SWITCH_GAIN, &corner, Vec::new());
+
+        // Dissipation: the largest collector current with a bound on the base term.
+        let (ib_max, vbe_p) = worst::base_dissipation_drive(stage, rb_picked, il);
+        let dissipation = thermal::bjt_dissipation(stage.assume.vce_sat, il, vbe_p, ib_max).with(
+            if rb_picked.is_some() {
+                "the largest collector current (worst load.current) and a bound on the base term: the most base current (drive high, VBE at temperature_max, resistor -tol) times the highest VBE (temperature_min)"
+            } else {
+                "the largest collector current (worst load.current) and a bound on the base term: IL / forced_beta, the most the design lets the base take, times the highest VBE (temperature_min)"
+            }
+            .to_string(),
+        );
+        let p = dissipation.value;
+        self.worked(
+            ids::SWITCH_DISSIPATION,
+            Bound::Value,
+            Unit::Watt,
+            p.0,
+            "vce_sat × IL + VBE × IB, each at its largest",
+            dissipation,
+        );
+        let mut corner = self
+            .il_corner
+            .clone()
+            .with(Factor::Temperature, Extreme::Min);
+        if rb_picked.is_some() {
+            corner = corner.with(Factor::Resistor, Extreme::MinusTol);
+            if follows {
+                corner = corner.with(Factor::Drive, Extreme::Max);
+            }
+        }
+        self.set_corner(ids::SWITCH_DISSIPATION, &corner, Vec::new());
+        let ambient = worst::thermal_ambient(stage, true);
+        let example = thermal::derated_pd(
+            crate::units::Watts(1.0),
+            crate::units::Celsius(150.0),
+            ambient,
+        );
+        let note = format!(
+            "a part's PD (at 25 °C) derated linearly to zero at TJmax must cover this at {ambient}, the hotter of rules.ambient and temperature_max (for TJmax 150 °C: PD × {})",
+            format_number(example.0)
+        );
+        self.derated(
+            ids::SWITCH_POWER,
+            Unit::Watt,
+            p.0,
+            stage.rules.power_derating,
+            "dissipation",
+            "power_derating",
+            &note,
+        );
+        self.set_corner(ids::SWITCH_POWER, &corner, Vec::new());
+    }
+
     /// The gate drive of a MOSFET switch.
     fn mosfet_drive(&mut self, divider: Option<&Divider>) {
         let stage = self.stage;
         let (gate, origin) = match stage.drive.source {
+            DriveSource::Logic if self.worst.is_some() => {
+                let low = worst::drive_at(stage, false);
+                (low, format!("[drive] high at its lowest = {low}"))
+            }
             DriveSource::Logic => (
                 stage.drive.high,
                 format!("[drive] high = {}", stage.drive.high),
@@ -681,7 +1165,12 @@ impl<'a> Builder<'a> {
                 Some(d) => (
                     d.open,
                     format!(
-                        "the divider's open node one decade past the switching level at Vs_min: {}",
+                        "the divider's open node one decade past the switching level at Vs_min{}: {}",
+                        if self.worst.is_some() {
+                            ", at its worst corner"
+                        } else {
+                            ""
+                        },
                         d.open
                     ),
                 ),
@@ -700,6 +1189,43 @@ impl<'a> Builder<'a> {
             ],
             sources::COMMON_PRACTICE,
         );
+        // Worst case: the gate at its lowest for RDS(on) and VGS(th), at its highest for VGS max.
+        let mut top = gate;
+        let mut corners = None;
+        if self.worst.is_some() {
+            let follows = worst::drive_follows_supply(stage);
+            let (low_corner, high_corner, lines) = match (stage.drive.source, divider) {
+                (DriveSource::Photocell, Some(d)) => {
+                    top = stage.supply.max();
+                    (
+                        d.open_corner.clone(),
+                        Corner::none().with(Factor::Supply, Extreme::Max),
+                        vec![format!(
+                            "the divider's node never exceeds the supply: VGS at most Vs_max = {top}"
+                        )],
+                    )
+                }
+                _ if follows => {
+                    top = worst::drive_at(stage, true);
+                    (
+                        Corner::none().with(Factor::Drive, Extreme::Min),
+                        Corner::none().with(Factor::Drive, Extreme::Max),
+                        vec![format!(
+                            "drive.high is the supply rail: VGS from Vs_min {gate} to Vs_max {top}"
+                        )],
+                    )
+                }
+                _ => (
+                    Corner::none(),
+                    Corner::none(),
+                    vec![format!(
+                        "drive.high {} is taken as given (the stage gives it no tolerance)",
+                        stage.drive.high
+                    )],
+                ),
+            };
+            corners = Some((low_corner, high_corner, lines));
+        }
         let threshold = gate * 0.5;
         self.need(
             ids::SWITCH_GATE_THRESHOLD,
@@ -717,13 +1243,18 @@ impl<'a> Builder<'a> {
             ids::SWITCH_GATE_VOLTAGE,
             Bound::Min,
             Unit::Volt,
-            Some(gate.0),
+            Some(top.0),
             "high",
             vec![format!(
-                "a MOSFET's VGS max must stand the gate drive {gate}"
+                "a MOSFET's VGS max must stand the gate drive {top}"
             )],
             sources::COMMON_PRACTICE,
         );
+        if let Some((low, high, lines)) = corners {
+            self.set_corner(ids::SWITCH_GATE_DRIVE, &low, lines.clone());
+            self.set_corner(ids::SWITCH_GATE_THRESHOLD, &low, lines.clone());
+            self.set_corner(ids::SWITCH_GATE_VOLTAGE, &high, lines);
+        }
         if stage.drive.source == DriveSource::Photocell {
             self.problem(
                 Severity::Warning,
@@ -787,6 +1318,13 @@ impl<'a> Builder<'a> {
                 "current_derating",
                 "at switch-off the clamp takes the whole coil current, decaying from IL: its IF(AV) must be at least this (common practice; its IFSM covers the pulse easily)",
             );
+            let il_corner = self.il_corner.clone();
+            self.set_corner(
+                ids::CLAMP_VOLTAGE,
+                &Corner::none().with(Factor::Supply, Extreme::Max),
+                Vec::new(),
+            );
+            self.set_corner(ids::CLAMP_CURRENT, &il_corner, Vec::new());
         }
         let vf = stage.assume.diode_vf;
         let zener = match (stage.clamp.kind, stage.clamp.zener_volts) {
@@ -817,6 +1355,12 @@ impl<'a> Builder<'a> {
             }
             return;
         };
+        // Worst case: the cold coil of load.current (lowest R: longest τ, most current).
+        let r20 = r;
+        let (r, cold_line) = match self.worst {
+            Some(w) => (r * w.coil_cold(), Some(w.cold_coil_line(r))),
+            None => (r, None),
+        };
         let tau = inductive::rl_tau(l, r);
         let t = tau.value;
         self.worked(ids::COIL_TAU, Bound::Value, Unit::Second, t.0, "L / R", tau);
@@ -830,6 +1374,11 @@ impl<'a> Builder<'a> {
             "½ L IL²",
             energy,
         );
+        let il_corner = self.il_corner.clone();
+        let cold = Corner::none().with(Factor::Temperature, Extreme::Min);
+        let cold_lines: Vec<String> = cold_line.iter().cloned().collect();
+        self.set_corner(ids::COIL_TAU, &cold, cold_lines.clone());
+        self.set_corner(ids::COIL_ENERGY, &il_corner, Vec::new());
         if !clamped {
             return;
         }
@@ -840,11 +1389,13 @@ impl<'a> Builder<'a> {
             .map(Volts);
         let (i_rel, rel_line) = match release_v {
             Some(v) => {
-                let i: Amps = v / r;
+                // The release is a magnetic threshold, a current: the 20 °C figure over R20
+                // holds at any coil temperature.
+                let i: Amps = v / r20;
                 (
                     i,
                     format!(
-                        "I_rel = must-release voltage / R = {v} / {r} = {i} (the relay's own figure)"
+                        "I_rel = must-release voltage / R = {v} / {r20} = {i} (the relay's own figure)"
                     ),
                 )
             }
@@ -874,6 +1425,12 @@ impl<'a> Builder<'a> {
                     "τ ln((IL + Vc/R) / (I_rel + Vc/R))",
                     worked,
                 );
+                let mut lines = cold_lines.clone();
+                lines.push(
+                    "the cold coil at Vs_max releases slowest: τ is longest and the current highest"
+                        .to_string(),
+                );
+                self.set_corner(ids::COIL_RELEASE_TIME, &il_corner, lines);
             }
             None => {
                 let message = format!(
@@ -893,6 +1450,7 @@ impl<'a> Builder<'a> {
                 "VZ ∫ i dt",
                 worked,
             );
+            self.set_corner(ids::ZENER_ENERGY, &il_corner, cold_lines);
         }
     }
 
@@ -912,16 +1470,45 @@ impl<'a> Builder<'a> {
             ],
             sources::CIRCUIT_THEORY,
         );
-        let operate = relay::operate_voltage(vs_min, v_sat, stage.rules.ambient);
-        let v = operate.value;
-        self.worked(
-            ids::RELAY_OPERATE_VOLTAGE,
-            Bound::Max,
-            Unit::Volt,
-            v.0,
-            "Vs_min - V_sat",
-            operate,
+        let il_corner = self.il_corner.clone();
+        self.set_corner(
+            ids::RELAY_COIL_CURRENT,
+            &il_corner,
+            vec![
+                "a relay's own coil current is taken at the same corner (its coil_r cold)"
+                    .to_string(),
+            ],
         );
+        match self.worst {
+            Some(w) => {
+                let operate = relay::operate_voltage_hot(vs_min, v_sat, w.coil_hot_temperature());
+                let v = operate.value;
+                self.worked(
+                    ids::RELAY_OPERATE_VOLTAGE,
+                    Bound::Max,
+                    Unit::Volt,
+                    v.0,
+                    "(Vs_min - V_sat) / (1 + α (temperature_max + coil_rise - 20))",
+                    operate,
+                );
+                let corner = Corner::none()
+                    .with(Factor::Supply, Extreme::Min)
+                    .with(Factor::Temperature, Extreme::Max);
+                self.set_corner(ids::RELAY_OPERATE_VOLTAGE, &corner, vec![w.hot_coil_line()]);
+            }
+            None => {
+                let operate = relay::operate_voltage(vs_min, v_sat, stage.rules.ambient);
+                let v = operate.value;
+                self.worked(
+                    ids::RELAY_OPERATE_VOLTAGE,
+                    Bound::Max,
+                    Unit::Volt,
+                    v.0,
+                    "Vs_min - V_sat",
+                    operate,
+                );
+            }
+        }
         let coil_max = vs_max - v_sat;
         self.need(
             ids::RELAY_COIL_VOLTAGE_MAX,
@@ -934,6 +1521,11 @@ impl<'a> Builder<'a> {
                 "a relay's maximum continuous coil voltage must be at least this".to_string(),
             ],
             sources::COMMON_PRACTICE,
+        );
+        self.set_corner(
+            ids::RELAY_COIL_VOLTAGE_MAX,
+            &Corner::none().with(Factor::Supply, Extreme::Max),
+            Vec::new(),
         );
         match stage.contacts {
             Some(contacts) => self.contacts(&contacts),
@@ -1071,7 +1663,11 @@ impl<'a> Builder<'a> {
             r.must_operate_v.get(),
             "must-operate voltage",
             Severity::Error,
-            "at the low end of the supply the relay may not pull in",
+            if self.worst.is_some() {
+                "with its coil hot at the low end of the supply the relay may not pull in"
+            } else {
+                "at the low end of the supply the relay may not pull in"
+            },
         );
         self.hold(
             &name,
@@ -1239,7 +1835,60 @@ impl<'a> Builder<'a> {
                 photocell::resistance_at(r10, gamma, Lux(sensor.on_lux.0 / 10.0)),
             ),
         };
-        let open = photocell::divider_node(stage.supply.min(), top, bottom);
+        let mut open = photocell::divider_node(stage.supply.min(), top, bottom);
+        let mut drive = drive;
+        let mut drive_corner = Corner::none();
+        let mut open_corner = Corner::none();
+        if let Some(w) = self.worst {
+            // The divider's weakest corner at Vs_min: r10 and the fixed resistor each at either
+            // end of its tolerance.
+            let mut weakest: Option<(Worked<Amps>, Corner)> = None;
+            let mut lowest: Option<(Volts, Corner)> = None;
+            for (r10_plus, rf_plus) in [(false, false), (false, true), (true, false), (true, true)]
+            {
+                let r10_at = r10 * (1.0 + if r10_plus { tolerance } else { -tolerance });
+                let rf = fixed * (1.0 + if rf_plus { w.tolerance } else { -w.tolerance });
+                let corner = Corner::none()
+                    .with(Factor::Supply, Extreme::Min)
+                    .with(Factor::R10, Extreme::tolerance(r10_plus))
+                    .with(Factor::Resistor, Extreme::tolerance(rf_plus));
+                let at = photocell::drive_current(
+                    sensor.activate,
+                    r10_at,
+                    gamma,
+                    sensor.on_lux,
+                    rf,
+                    stage.supply.min(),
+                    sensor.threshold,
+                )
+                .with(format!("r10 at {r10_at}, fixed resistor at {rf}"));
+                if weakest.as_ref().is_none_or(|(b, _)| at.value.0 < b.value.0) {
+                    weakest = Some((at, corner.clone()));
+                }
+                let (top, bottom) = match sensor.activate {
+                    Activate::Light => (
+                        photocell::resistance_at(r10_at, gamma, Lux(sensor.on_lux.0 * 10.0)),
+                        rf,
+                    ),
+                    Activate::Dark => (
+                        rf,
+                        photocell::resistance_at(r10_at, gamma, Lux(sensor.on_lux.0 / 10.0)),
+                    ),
+                };
+                let node = photocell::divider_node(stage.supply.min(), top, bottom);
+                if lowest.as_ref().is_none_or(|(b, _)| node.0 < b.0) {
+                    lowest = Some((node, corner));
+                }
+            }
+            if let Some((at, corner)) = weakest {
+                drive = at;
+                drive_corner = corner;
+            }
+            if let Some((node, corner)) = lowest {
+                open = node;
+                open_corner = corner;
+            }
+        }
         if stage.rules.require_rohs || part.is_some_and(|p| p.rohs == Some(false)) {
             self.problem(
                 Severity::Warning,
@@ -1259,6 +1908,8 @@ impl<'a> Builder<'a> {
             on_lux: sensor.on_lux,
             drive,
             open,
+            drive_corner,
+            open_corner,
             origin: origins.join(", "),
         })
     }
@@ -1322,6 +1973,115 @@ impl<'a> Builder<'a> {
             "lux at which fixed_resistor puts the node at threshold",
             on,
         );
+        if let Some(w) = self.worst {
+            self.on_lux_spread(w, d, fixed);
+        } else {
+            self.on_lux_nominal_spread(d, fixed, vs);
+        }
+        self.need(
+            ids::SENSOR_VOLTAGE,
+            Bound::Min,
+            Unit::Volt,
+            Some(vs_max.0),
+            "Vs_max",
+            vec![
+                format!(
+                    "in the dark the photocell holds nearly the whole supply: Vs_max = {vs_max}"
+                ),
+                "a photocell's v_max must be at least this".to_string(),
+            ],
+            sources::CIRCUIT_THEORY,
+        );
+        self.set_corner(
+            ids::SENSOR_VOLTAGE,
+            &Corner::none().with(Factor::Supply, Extreme::Max),
+            Vec::new(),
+        );
+        // Worst case: the fixed resistor at its low tolerance lets the photocell take most.
+        let low_fixed = self.worst.map(|w| (w, fixed * (1.0 - w.tolerance)));
+        let p = photocell::worst_power(vs_max, low_fixed.map_or(fixed, |(_, r)| r));
+        let worked = switching::derated(
+            p.value.0,
+            stage.rules.power_derating,
+            Dim::Watt,
+            "Vs_max² / (4 R_fixed)",
+            "power_derating",
+        );
+        let mut working = p.working;
+        working.extend(worked.working);
+        working.push("a photocell's p_max must be at least this".to_string());
+        self.need(
+            ids::SENSOR_POWER,
+            Bound::Min,
+            Unit::Watt,
+            Some(worked.value),
+            "Vs_max² / (4 × fixed_resistor) / power_derating",
+            working,
+            p.source,
+        );
+        if let Some((w, r)) = low_fixed {
+            let corner = Corner::none()
+                .with(Factor::Supply, Extreme::Max)
+                .with(Factor::Resistor, Extreme::MinusTol);
+            let line = format!(
+                "the fixed resistor at -{} of {fixed}: {r}",
+                format_eng(w.tolerance, Dim::Percent)
+            );
+            self.set_corner(ids::SENSOR_POWER, &corner, vec![line]);
+        }
+        if stage.drive.source == DriveSource::Photocell {
+            let drive = d.drive.clone();
+            let v = drive.value.0;
+            self.worked(
+                ids::SENSOR_DRIVE_CURRENT,
+                Bound::Value,
+                Unit::Amp,
+                v,
+                "(V_open - threshold) / R_thevenin, one decade past on_lux",
+                drive,
+            );
+            let corner = d.drive_corner.clone();
+            self.set_corner(
+                ids::SENSOR_DRIVE_CURRENT,
+                &corner,
+                vec![
+                    "the weakest of the four corners of r10 and the fixed resistor at Vs_min"
+                        .to_string(),
+                ],
+            );
+        }
+        self.hold_photocell(sensor);
+    }
+
+    /// The photocell part named by the stage held against its needs.
+    fn hold_photocell(&mut self, sensor: &Sensor) {
+        if let Some(number) = sensor.part.as_deref()
+            && let Some(part) = self.library.and_then(|l| l.find(number))
+            && let Some(cell) = part.photocell()
+        {
+            let name = part.number.to_string();
+            self.hold(
+                &name,
+                ids::SENSOR_VOLTAGE,
+                cell.v_max.get(),
+                "v_max",
+                Severity::Error,
+                "the photocell is not rated for the supply",
+            );
+            self.hold(
+                &name,
+                ids::SENSOR_POWER,
+                cell.p_max.get(),
+                "p_max",
+                Severity::Error,
+                "the photocell may overheat where its resistance equals the fixed resistor",
+            );
+        }
+    }
+
+    /// The switching light level with R10 at either end of its tolerance (nominal supply and
+    /// fixed resistor).
+    fn on_lux_nominal_spread(&mut self, d: &Divider, fixed: Ohms, vs: Volts) {
         for (id, sign, word) in [
             (ids::SENSOR_ON_LUX_LOW, -1.0, "low"),
             (ids::SENSOR_ON_LUX_HIGH, 1.0, "high"),
@@ -1348,72 +2108,77 @@ impl<'a> Builder<'a> {
                 worked,
             );
         }
-        self.need(
-            ids::SENSOR_VOLTAGE,
-            Bound::Min,
-            Unit::Volt,
-            Some(vs_max.0),
-            "Vs_max",
-            vec![
-                format!(
-                    "in the dark the photocell holds nearly the whole supply: Vs_max = {vs_max}"
-                ),
-                "a photocell's v_max must be at least this".to_string(),
-            ],
-            sources::CIRCUIT_THEORY,
-        );
-        let p = photocell::worst_power(vs_max, fixed);
-        let worked = switching::derated(
-            p.value.0,
-            stage.rules.power_derating,
-            Dim::Watt,
-            "Vs_max² / (4 R_fixed)",
-            "power_derating",
-        );
-        let mut working = p.working;
-        working.extend(worked.working);
-        working.push("a photocell's p_max must be at least this".to_string());
-        self.need(
-            ids::SENSOR_POWER,
-            Bound::Min,
-            Unit::Watt,
-            Some(worked.value),
-            "Vs_max² / (4 × fixed_resistor) / power_derating",
-            working,
-            p.source,
-        );
-        if stage.drive.source == DriveSource::Photocell {
-            let drive = d.drive.clone();
-            let v = drive.value.0;
-            self.worked(
-                ids::SENSOR_DRIVE_CURRENT,
-                Bound::Value,
-                Unit::Amp,
-                v,
-                "(V_open - threshold) / R_thevenin, one decade past on_lux",
-                drive,
-            );
+    }
+
+    /// The switching light level at its lowest and highest over every corner of the supply,
+    /// r10 and the fixed resistor's tolerance together (worst case).
+    fn on_lux_spread(&mut self, w: worst::Conditions, d: &Divider, fixed: Ohms) {
+        let stage = self.stage;
+        let mut low: Option<(Worked<Lux>, Corner)> = None;
+        let mut high: Option<(Worked<Lux>, Corner)> = None;
+        for supply_high in [false, true] {
+            let vs = if supply_high {
+                stage.supply.max()
+            } else {
+                stage.supply.min()
+            };
+            if vs.0 <= d.threshold.0 {
+                continue;
+            }
+            for (r10_plus, rf_plus) in [(false, false), (false, true), (true, false), (true, true)]
+            {
+                let r10 = d.r10 * (1.0 + if r10_plus { d.tolerance } else { -d.tolerance });
+                let rf = fixed * (1.0 + if rf_plus { w.tolerance } else { -w.tolerance });
+                let worked =
+                    photocell::switching_lux(d.activate, rf, vs, d.threshold, r10, d.gamma).with(
+                        format!(
+                            "Vs {vs}, r10 {r10} ({} {}), fixed resistor {rf} ({} {})",
+                            if r10_plus { "+" } else { "-" },
+                            format_eng(d.tolerance, Dim::Percent),
+                            if rf_plus { "+" } else { "-" },
+                            format_eng(w.tolerance, Dim::Percent)
+                        ),
+                    );
+                if !worked.value.0.is_finite() {
+                    continue;
+                }
+                let corner = Corner::none()
+                    .with(Factor::Supply, Extreme::range(supply_high))
+                    .with(Factor::R10, Extreme::tolerance(r10_plus))
+                    .with(Factor::Resistor, Extreme::tolerance(rf_plus));
+                if low.as_ref().is_none_or(|(b, _)| worked.value.0 < b.value.0) {
+                    low = Some((worked.clone(), corner.clone()));
+                }
+                if high
+                    .as_ref()
+                    .is_none_or(|(b, _)| worked.value.0 > b.value.0)
+                {
+                    high = Some((worked, corner));
+                }
+            }
         }
-        if let Some(number) = sensor.part.as_deref()
-            && let Some(part) = self.library.and_then(|l| l.find(number))
-            && let Some(cell) = part.photocell()
-        {
-            let name = part.number.to_string();
-            self.hold(
-                &name,
-                ids::SENSOR_VOLTAGE,
-                cell.v_max.get(),
-                "v_max",
-                Severity::Error,
-                "the photocell is not rated for the supply",
+        for (id, found, word) in [
+            (ids::SENSOR_ON_LUX_LOW, low, "lowest"),
+            (ids::SENSOR_ON_LUX_HIGH, high, "highest"),
+        ] {
+            let Some((worked, corner)) = found else {
+                continue;
+            };
+            let v = worked.value.0;
+            self.worked(
+                id,
+                Bound::Value,
+                Unit::Lux,
+                v,
+                "on_lux over the corners of supply, r10 and fixed_resistor tolerances",
+                worked,
             );
-            self.hold(
-                &name,
-                ids::SENSOR_POWER,
-                cell.p_max.get(),
-                "p_max",
-                Severity::Error,
-                "the photocell may overheat where its resistance equals the fixed resistor",
+            self.set_corner(
+                id,
+                &corner,
+                vec![format!(
+                    "the {word} switching level of the eight corners of supply, r10 tolerance and the fixed resistor's tolerance together"
+                )],
             );
         }
     }

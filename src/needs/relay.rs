@@ -99,6 +99,32 @@ pub fn operate_voltage(vs_min: Volts, v_sat: Volts, ambient: Celsius) -> Worked<
     worked
 }
 
+/// The worst-case must-operate need: a relay's must-operate voltage, stated at 20 °C, scales
+/// with its copper coil's resistance (pull-in is a current threshold), so with the coil at
+/// `coil_temperature` the 20 °C figure may be at most (Vs_min - V_sat) / (1 + 0.00393 (T - 20))
+/// (IEC 60028 for copper).
+#[must_use]
+pub fn operate_voltage_hot(
+    vs_min: Volts,
+    v_sat: Volts,
+    coil_temperature: Celsius,
+) -> Worked<Volts> {
+    let across = vs_min - v_sat;
+    let factor = copper_factor(coil_temperature);
+    let value = across / factor;
+    Worked::new(
+        value,
+        format!(
+            "V(operate, 20 °C) <= (Vs_min - V_sat) / (1 + 0.00393 × (T_coil - 20)) = ({vs_min} - {v_sat}) / {factor:.4} = {value}"
+        ),
+        "IEC 60028 (copper, 0.00393 /K); pull-in at a coil current (common practice)",
+    )
+    .with(format!(
+        "the coil at {coil_temperature} has {factor:.4} × its 20 °C resistance, so it needs that much more voltage for the same pull-in current"
+    ))
+    .with("a relay's must-operate voltage (at 20 °C) must be at most this".to_string())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -130,6 +156,16 @@ mod tests {
     fn utilization_categories_iec_60947() {
         assert!(utilization_category(ContactLoad::Resistive, true).starts_with("AC-1"));
         assert!(utilization_category(ContactLoad::Motor, true).starts_with("AC-3"));
+    }
+
+    /// IEC 60028 (0.00393 /K) by hand for a 24 V stage, V_sat 0.2 V, coil at 60 °C + 30 K:
+    /// factor 1 + 0.00393 × 70 = 1.2751; (24 - 0.2) / 1.2751 = 18.665 V.
+    #[test]
+    fn hot_coil_operate_voltage_iec_60028() {
+        let w = operate_voltage_hot(Volts(24.0), Volts(0.2), Celsius(90.0));
+        assert!((w.value.0 - 23.8 / 1.2751).abs() < 1e-9, "{}", w.value);
+        assert!((w.value.0 - 18.665).abs() < 5e-4);
+        assert!(w.working.iter().any(|l| l.contains("1.2751")));
     }
 
     #[test]

@@ -9,7 +9,7 @@ use super::{
     KEYS, Load, LoadType, Rules, Sensor, Stage, StageError, Supply, Switch, SwitchType,
 };
 use crate::needs::eseries::Series;
-use crate::units::{self, Amps, Celsius, Dim, Farads, Henries, Lux, Ohms, Volts};
+use crate::units::{self, Amps, Celsius, Dim, Farads, Henries, Kelvins, Lux, Ohms, Volts};
 use std::ops::Range;
 use toml::Spanned;
 use toml::de::{DeTable, DeValue};
@@ -383,7 +383,10 @@ fn base_unit(dim: Dim) -> &'static str {
         Dim::Second => "seconds",
         Dim::Lux => "lux",
         Dim::Celsius => "°C",
+        Dim::Kelvin => "kelvins",
         Dim::Percent => "a fraction (0.1 for 10 %)",
+        Dim::VoltPerKelvin => "volts per kelvin (-0.002 for -2 mV/K)",
+        Dim::PercentPerKelvin => "a fraction per kelvin (0.005 for 0.5 %/K)",
         _ => "SI units",
     }
 }
@@ -499,6 +502,7 @@ pub(super) fn stage(text: &str, file: &str) -> Result<Stage> {
     let clamp = read_clamp(&clamp_t, load.kind, &mut notes)?;
     let sensor = read_sensor(&sensor_t, &drive_t, drive.source, supply.volts, assume)?;
     let rules = read_rules(&rules_t)?;
+    check_worst_case(&rules_t, &assume_t, &rules, &assume, &mut notes)?;
 
     Ok(Stage {
         title,
@@ -530,7 +534,81 @@ fn read_assume(t: &Table<'_, '_>) -> Result<Assume> {
             t.non_negative("diode_vf", Dim::Volt, "0.7 V")?
                 .unwrap_or(defaults.diode_vf.0),
         ),
+        vbe_tempco: {
+            let value = t.quantity("vbe_tempco", Dim::VoltPerKelvin, "-2 mV/K")?;
+            t.in_range(
+                "vbe_tempco",
+                value,
+                |v| (-10e-3..=10e-3).contains(&v),
+                "must be from -10 mV/K to +10 mV/K (a silicon junction drifts about -2 mV/K)",
+            )?
+            .unwrap_or(defaults.vbe_tempco)
+        },
+        hfe_tempco: {
+            let value = t.quantity("hfe_tempco", Dim::PercentPerKelvin, "0.5 %/K")?;
+            t.in_range(
+                "hfe_tempco",
+                value,
+                |v| (-0.05..=0.05).contains(&v),
+                "must be from -5 %/K to +5 %/K (about +0.5 %/K is usual for a silicon BJT)",
+            )?
+            .unwrap_or(defaults.hfe_tempco)
+        },
+        resistor_tolerance: t.fraction("resistor_tolerance", 0.0..0.5, true)?,
     })
+}
+
+/// The worst-case keys against each other: the temperature range must be a range, hFE must
+/// stay positive over it, and keys that only the worst case uses are noted when it is off.
+fn check_worst_case(
+    rules_t: &Table<'_, '_>,
+    assume_t: &Table<'_, '_>,
+    rules: &Rules,
+    assume: &Assume,
+    notes: &mut Vec<String>,
+) -> Result<()> {
+    let (low, high) = (rules.temperature_min, rules.temperature_max);
+    if low.0 >= high.0 {
+        let key = if rules_t.get("temperature_max").is_some() {
+            "temperature_max"
+        } else {
+            "temperature_min"
+        };
+        let message = format!(
+            "the temperature range is empty: temperature_min {low} must be below temperature_max {high}"
+        );
+        return Err(match rules_t.get(key) {
+            Some(raw) => rules_t.fail(key, raw, message),
+            None => rules_t.missing(key, &message),
+        });
+    }
+    // hFE(T) = hFE(25 °C) × (1 + tempco × (T - 25)): a factor at or below zero means the
+    // tempco and the range together say the transistor has no gain at one end.
+    for t in [low, high] {
+        let factor = 1.0 + assume.hfe_tempco * (t.0 - 25.0);
+        if factor <= 0.05
+            && let Some(raw) = assume_t.get("hfe_tempco")
+        {
+            return Err(assume_t.fail(
+                "hfe_tempco",
+                raw,
+                format!(
+                    "at {t} this leaves hFE at {:.0} % of its 25 °C value, which no switch works with; check the sign and the unit (%/K)",
+                    factor * 100.0
+                ),
+            ));
+        }
+    }
+    if !rules.worst_case {
+        let why = "[rules] worst_case is false";
+        for key in ["temperature_min", "temperature_max", "coil_rise"] {
+            notes.extend(rules_t.unused(key, why));
+        }
+        for key in ["vbe_tempco", "hfe_tempco", "resistor_tolerance"] {
+            notes.extend(assume_t.unused(key, why));
+        }
+    }
+    Ok(())
 }
 
 fn read_supply(t: &Table<'_, '_>) -> Result<Supply> {
@@ -862,13 +940,16 @@ fn read_rules(t: &Table<'_, '_>) -> Result<Rules> {
         let value = t.fraction(key, 0.01..1.0, true)?;
         Ok(value.unwrap_or(default))
     };
-    let ambient = t.quantity("ambient", Dim::Celsius, "40 C")?;
-    let ambient = t.in_range(
-        "ambient",
-        ambient,
-        |c| (-70.0..=200.0).contains(&c),
-        "must be from -70 °C to 200 °C",
-    )?;
+    let temperature = |key: &str, example: &str| -> Result<Option<f64>> {
+        let value = t.quantity(key, Dim::Celsius, example)?;
+        t.in_range(
+            key,
+            value,
+            |c| (-70.0..=200.0).contains(&c),
+            "must be from -70 °C to 200 °C",
+        )
+    };
+    let ambient = temperature("ambient", "40 C")?;
     let eseries = match t.get("eseries") {
         Some(raw) => {
             let text = match raw.get_ref() {
@@ -898,6 +979,21 @@ fn read_rules(t: &Table<'_, '_>) -> Result<Rules> {
             .boolean("allow_obsolete")?
             .unwrap_or(defaults.allow_obsolete),
         require_rohs: t.boolean("require_rohs")?.unwrap_or(defaults.require_rohs),
+        worst_case: t.boolean("worst_case")?.unwrap_or(defaults.worst_case),
+        temperature_min: temperature("temperature_min", "-20 C")?
+            .map_or(defaults.temperature_min, Celsius),
+        temperature_max: temperature("temperature_max", "60 C")?
+            .map_or(defaults.temperature_max, Celsius),
+        coil_rise: {
+            let rise = t.quantity("coil_rise", Dim::Kelvin, "30 K")?;
+            t.in_range(
+                "coil_rise",
+                rise,
+                |k| (0.0..=200.0).contains(&k),
+                "must be from 0 K to 200 K (the coil's self-heating above the ambient)",
+            )?
+            .map_or(defaults.coil_rise, Kelvins)
+        },
     })
 }
 
@@ -1148,6 +1244,79 @@ gamma = 0.7
                 let _ = crate::needs::compute(&stage, None);
             }
         }
+    }
+
+    /// Issue 10's worst-case keys and their defaults: worst_case false, -20 °C to 60 °C, a
+    /// 30 K coil rise, VBE -2 mV/K, hFE +0.5 %/K (common practice, from memory), and the
+    /// resistor tolerance of the chosen E-series (IEC 60063: E12 ±10 %, E24 ±5 %).
+    #[test]
+    fn worst_case_keys_and_defaults() {
+        let base = "[supply]\nvolts = 12\n[load]\ntype = \"relay\"\nresistance = 400\n";
+        let s = read(base).unwrap_or_else(|e| panic!("{e}"));
+        assert!(!s.rules.worst_case);
+        assert_eq!(s.rules.temperature_min, Celsius(-20.0));
+        assert_eq!(s.rules.temperature_max, Celsius(60.0));
+        assert_eq!(s.rules.coil_rise, Kelvins(30.0));
+        assert_eq!(s.assume.vbe_tempco, -2e-3);
+        assert_eq!(s.assume.hfe_tempco, 0.005);
+        assert_eq!(s.assume.resistor_tolerance, None);
+        assert_eq!(s.resistor_tolerance(), 0.10);
+        let s = read(&format!(
+            "{base}[rules]\nworst_case = true\ntemperature_min = \"-40 C\"\ntemperature_max = \"85 °C\"\ncoil_rise = \"25 K\"\neseries = \"E24\"\n[assume]\nvbe_tempco = \"-2.2 mV/K\"\nhfe_tempco = \"+0.7 %/K\"\n"
+        ))
+        .unwrap_or_else(|e| panic!("{e}"));
+        assert!(s.rules.worst_case);
+        assert_eq!(s.rules.temperature_min, Celsius(-40.0));
+        assert_eq!(s.rules.temperature_max, Celsius(85.0));
+        assert_eq!(s.rules.coil_rise, Kelvins(25.0));
+        assert!((s.assume.vbe_tempco + 2.2e-3).abs() < 1e-15);
+        assert!((s.assume.hfe_tempco - 0.007).abs() < 1e-15);
+        assert_eq!(s.resistor_tolerance(), 0.05, "E24 is a ±5 % series");
+        assert!(s.notes.is_empty(), "{:?}", s.notes);
+        let s = read(&format!(
+            "{base}[rules]\nworst_case = true\n[assume]\nresistor_tolerance = \"1 %\"\n"
+        ))
+        .unwrap_or_else(|e| panic!("{e}"));
+        assert!((s.resistor_tolerance() - 0.01).abs() < 1e-15);
+    }
+
+    #[test]
+    fn worst_case_keys_are_checked_and_noted_when_off() {
+        let base = "[supply]\nvolts = 12\n[load]\ntype = \"relay\"\nresistance = 400\n";
+        let e = error(&format!(
+            "{base}[rules]\ntemperature_min = \"70 C\"\ntemperature_max = \"60 C\"\n"
+        ));
+        assert!(
+            e.contains("[rules] temperature_max") && e.contains("range is empty"),
+            "{e}"
+        );
+        let e = error(&format!("{base}[rules]\ntemperature_min = \"-20 V\"\n"));
+        assert!(e.contains("a temperature such as"), "{e}");
+        let e = error(&format!("{base}[assume]\nvbe_tempco = \"-2 mV\"\n"));
+        assert!(
+            e.contains("[assume] vbe_tempco") && e.contains("-2 mV/K"),
+            "{e}"
+        );
+        let e = error(&format!("{base}[assume]\nvbe_tempco = \"-20 mV/K\"\n"));
+        assert!(e.contains("-10 mV/K to +10 mV/K"), "{e}");
+        let e = error(&format!("{base}[assume]\nhfe_tempco = \"3 %/K\"\n"));
+        assert!(
+            e.contains("[assume] hfe_tempco") && e.contains("no switch works with"),
+            "{e}"
+        );
+        let e = error(&format!("{base}[rules]\ncoil_rise = \"-5 K\"\n"));
+        assert!(e.contains("from 0 K to 200 K"), "{e}");
+        let e = error(&format!("{base}[assume]\nresistor_tolerance = 10\n"));
+        assert!(e.contains("write \"10 %\" or 0.1"), "{e}");
+        let e = error(&format!("{base}[rules]\nworst_case = \"yes\"\n"));
+        assert!(e.contains("true or false"), "{e}");
+        let s = read(&format!(
+            "{base}[rules]\ncoil_rise = \"20 K\"\n[assume]\nhfe_tempco = \"0.4 %/K\"\n"
+        ))
+        .unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(s.notes.len(), 2, "{:?}", s.notes);
+        assert!(s.notes[0].contains("[rules] coil_rise is not used: [rules] worst_case is false"));
+        assert!(s.notes[1].contains("[assume] hfe_tempco is not used"));
     }
 
     #[test]

@@ -9,10 +9,8 @@ use fuzzy_matcher::skim::SkimMatcherV2;
 /// How many matches an error lists.
 const LISTED: usize = 8;
 
-/// Two part numbers share at least this share of their letter pairs (Dice coefficient over
-/// bigrams) to be offered as a near spelling: high enough that unrelated numbers stay out,
-/// low enough to catch two transposed digits.
-const NEAR_SPELLING: f64 = 0.5;
+/// How many near spellings a not-found error offers.
+const NEAR_LISTED: usize = 5;
 
 /// The part whose number is `text` (ignoring case and surrounding spaces); else the one part
 /// whose number holds `text`; else the one part the fuzzy matcher (skim) matches.
@@ -54,8 +52,7 @@ pub fn find_original(library: &Library, text: &str) -> Result<usize, SwapError> 
     match (holding.as_slice(), ranked.as_slice()) {
         ([one], _) | ([], [one]) => Ok(*one),
         ([], []) => Err(not_found()),
-        ([], several) => Err(ambiguous(several)),
-        (several, _) => Err(ambiguous(several)),
+        ([], several) | (several, _) => Err(ambiguous(several)),
     }
 }
 
@@ -83,41 +80,52 @@ fn contains_ignore_case(haystack: &str, needle: &str) -> bool {
     n.len() <= h.len() && h.windows(n.len()).any(|w| w.eq_ignore_ascii_case(n))
 }
 
-/// Letter pairs of a text, upper-cased, for the near-spelling measure.
-fn bigrams(text: &str) -> Vec<[char; 2]> {
-    let chars: Vec<char> = text.chars().map(|c| c.to_ascii_uppercase()).collect();
-    chars.windows(2).map(|w| [w[0], w[1]]).collect()
-}
-
-/// The Dice coefficient of two texts' letter pairs: 2·shared / (pairs of a + pairs of b).
-fn dice(a: &[[char; 2]], b: &[[char; 2]]) -> f64 {
-    if a.is_empty() || b.is_empty() {
-        return 0.0;
+/// The optimal-string-alignment distance of two texts, ignoring ASCII case: insertions,
+/// deletions, substitutions and swaps of two neighbours each cost one (the usual typing slips).
+fn edits(a: &[char], b: &[char]) -> usize {
+    let same = |x: char, y: char| x.eq_ignore_ascii_case(&y);
+    let width = b.len() + 1;
+    let mut d = vec![0usize; (a.len() + 1) * width];
+    for i in 0..=a.len() {
+        d[i * width] = i;
     }
-    let mut left = b.to_vec();
-    let mut shared = 0usize;
-    for pair in a {
-        if let Some(k) = left.iter().position(|p| p == pair) {
-            left.swap_remove(k);
-            shared += 1;
+    for (j, cell) in d.iter_mut().enumerate().take(width) {
+        *cell = j;
+    }
+    for i in 1..=a.len() {
+        for j in 1..=b.len() {
+            let cost = usize::from(!same(a[i - 1], b[j - 1]));
+            let mut best = (d[(i - 1) * width + j] + 1)
+                .min(d[i * width + j - 1] + 1)
+                .min(d[(i - 1) * width + j - 1] + cost);
+            if i > 1 && j > 1 && same(a[i - 1], b[j - 2]) && same(a[i - 2], b[j - 1]) {
+                best = best.min(d[(i - 2) * width + j - 2] + 1);
+            }
+            d[i * width + j] = best;
         }
     }
-    2.0 * shared as f64 / (a.len() + b.len()) as f64
+    d[a.len() * width + b.len()]
 }
 
-/// Part numbers spelled nearly like `text` (a digit dropped or two transposed), nearest first.
+/// Part numbers spelled nearly like `text` (a character dropped, added, changed, or two
+/// transposed: at most one slip in four characters), nearest first.
 #[must_use]
 pub fn near_spellings(library: &Library, text: &str) -> Vec<String> {
-    let key = bigrams(text.trim());
-    let mut near: Vec<(f64, &str)> = library
+    let key: Vec<char> = text.trim().chars().collect();
+    let allowed = (key.len() / 4).max(1);
+    let mut near: Vec<(usize, &str)> = library
         .parts
         .iter()
-        .map(|p| (dice(&key, &bigrams(&p.number)), &*p.number))
-        .filter(|(d, _)| *d >= NEAR_SPELLING)
+        .filter(|p| p.number.chars().count().abs_diff(key.len()) <= allowed)
+        .filter_map(|p| {
+            let number: Vec<char> = p.number.chars().collect();
+            let d = edits(&key, &number);
+            (d <= allowed).then_some((d, &*p.number))
+        })
         .collect();
-    near.sort_by(|a, b| b.0.total_cmp(&a.0).then_with(|| a.1.cmp(b.1)));
+    near.sort_by(|a, b| a.0.cmp(&b.0).then_with(|| a.1.cmp(b.1)));
     near.into_iter()
-        .take(LISTED)
+        .take(NEAR_LISTED)
         .map(|(_, n)| n.to_string())
         .collect()
 }
@@ -141,8 +149,16 @@ mod tests {
     fn exact_then_unique_then_ambiguous() {
         let library = library();
         assert_eq!(find_original(&library, " qx-100c ").unwrap(), 1);
-        assert_eq!(find_original(&library, "250").unwrap(), 2, "one number holds it");
-        assert_eq!(find_original(&library, "zr7").unwrap(), 3, "one fuzzy match");
+        assert_eq!(
+            find_original(&library, "250").unwrap(),
+            2,
+            "one number holds it"
+        );
+        assert_eq!(
+            find_original(&library, "zr7").unwrap(),
+            3,
+            "one fuzzy match"
+        );
         match find_original(&library, "QX-100") {
             Err(SwapError::Ambiguous { matches, count, .. }) => {
                 assert_eq!(count, 2);
@@ -151,6 +167,27 @@ mod tests {
             }
             other => panic!("{other:?}"),
         }
+    }
+
+    /// Optimal string alignment (Damerau's four slips, no substring edited twice): a
+    /// transposition costs one where plain Levenshtein counts two.
+    #[test]
+    fn edit_distance_counts_typing_slips() {
+        let d = |a: &str, b: &str| {
+            edits(
+                &a.chars().collect::<Vec<_>>(),
+                &b.chars().collect::<Vec<_>>(),
+            )
+        };
+        assert_eq!(
+            d("kitten", "sitting"),
+            3,
+            "the textbook Levenshtein example"
+        );
+        assert_eq!(d("QX-10E0", "QX-100E"), 1);
+        assert_eq!(d("ab", "BA"), 1);
+        assert_eq!(d("", "abc"), 3);
+        assert_eq!(d("CA", "ABC"), 3, "OSA edits no substring twice");
     }
 
     #[test]

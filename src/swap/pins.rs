@@ -54,11 +54,7 @@ pub fn diff(original: &str, candidate: &str, map: &[(&'static str, &'static str)
     if from.len() != to.len() {
         return PinDiff::Unmatched;
     }
-    if from
-        .iter()
-        .zip(&to)
-        .all(|(a, b)| a.eq_ignore_ascii_case(b))
-    {
+    if from.iter().zip(&to).all(|(a, b)| a.eq_ignore_ascii_case(b)) {
         return PinDiff::Same;
     }
     // Place every original pin on a candidate position of the same name: its own position

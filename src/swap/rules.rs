@@ -2,8 +2,8 @@
 //! checks when the original is the bar, and always used for the distance that orders
 //! substitutes closest first.
 
-use crate::fit::{Check, CheckVerdict};
 use crate::fit::checks::{HFE_CURRENT_FRACTION, ZENER_TOLERANCE, at_least, at_most, within};
+use crate::fit::{Check, CheckVerdict};
 use crate::library::{Kind, Part};
 use crate::units::{Dim, format_eng};
 use std::borrow::Cow;
@@ -103,7 +103,15 @@ fn fast(trr: f64) -> bool {
 
 macro_rules! rule {
     ($need:literal, $name:literal, $dim:expr, $test:expr, $view:ident . $field:ident) => {
-        rule!($need, $name, $dim, $test, $view.$field, $view.$field, always)
+        rule!(
+            $need,
+            $name,
+            $dim,
+            $test,
+            $view.$field,
+            $view.$field,
+            always
+        )
     };
     ($need:literal, $name:literal, $dim:expr, $test:expr, $view:ident . $field:ident, $when:expr) => {
         rule!($need, $name, $dim, $test, $view.$field, $view.$field, $when)
@@ -122,11 +130,32 @@ macro_rules! rule {
     };
 }
 
-/// Issue 6: VCEO, IC, hFE min (at a comparable current, see [`gain_current`]) and PD.
+/// Issue 6: VCEO, IC, hFE min and PD; and VCE(sat) no higher, so a Darlington (about 1-2 V
+/// saturated) is not offered for a saturated switch. hFE and VCE(sat) are compared at a
+/// comparable current, see [`test_current`].
 const BJT: &[Rule] = &[
     rule!("original.vceo", "vceo", Dim::Volt, Test::AtLeast, bjt.vceo),
-    rule!("original.ic_max", "ic_max", Dim::Amp, Test::AtLeast, bjt.ic_max),
-    rule!("original.hfe_min", "hfe_min", Dim::Number, Test::AtLeast, bjt.hfe_min),
+    rule!(
+        "original.ic_max",
+        "ic_max",
+        Dim::Amp,
+        Test::AtLeast,
+        bjt.ic_max
+    ),
+    rule!(
+        "original.hfe_min",
+        "hfe_min",
+        Dim::Number,
+        Test::AtLeast,
+        bjt.hfe_min
+    ),
+    rule!(
+        "original.vce_sat",
+        "vce_sat",
+        Dim::Volt,
+        Test::AtMost,
+        bjt.vce_sat
+    ),
     rule!("original.pd", "pd", Dim::Watt, Test::AtLeast, bjt.pd),
 ];
 
@@ -134,32 +163,105 @@ const BJT: &[Rule] = &[
 /// higher (so the same drive enhances it), and a gate that stands the same drive.
 const MOSFET: &[Rule] = &[
     rule!("original.vds", "vds", Dim::Volt, Test::AtLeast, mosfet.vds),
-    rule!("original.id_max", "id_max", Dim::Amp, Test::AtLeast, mosfet.id_max),
-    rule!("original.rds_on", "rds_on", Dim::Ohm, Test::AtMost, mosfet.rds_on),
-    rule!("original.rds_on_vgs", "rds_on_vgs", Dim::Volt, Test::AtMost, mosfet.rds_on_vgs),
-    rule!("original.vgs_max", "vgs_max", Dim::Volt, Test::AtLeast, mosfet.vgs_max),
+    rule!(
+        "original.id_max",
+        "id_max",
+        Dim::Amp,
+        Test::AtLeast,
+        mosfet.id_max
+    ),
+    rule!(
+        "original.rds_on",
+        "rds_on",
+        Dim::Ohm,
+        Test::AtMost,
+        mosfet.rds_on
+    ),
+    rule!(
+        "original.rds_on_vgs",
+        "rds_on_vgs",
+        Dim::Volt,
+        Test::AtMost,
+        mosfet.rds_on_vgs
+    ),
+    rule!(
+        "original.vgs_max",
+        "vgs_max",
+        Dim::Volt,
+        Test::AtLeast,
+        mosfet.vgs_max
+    ),
     rule!("original.pd", "pd", Dim::Watt, Test::AtLeast, mosfet.pd),
 ];
 
 /// An N-MOSFET for an NPN: VDS for VCEO, ID for IC, PD for PD; the gate is checked apart
 /// (logic-level, [`LOGIC_LEVEL_VGS`]).
 const NMOS_FOR_NPN: &[Rule] = &[
-    rule!("original.vceo", "vds", Dim::Volt, Test::AtLeast, bjt.vceo, mosfet.vds, always),
-    rule!("original.ic_max", "id_max", Dim::Amp, Test::AtLeast, bjt.ic_max, mosfet.id_max, always),
-    rule!("original.pd", "pd", Dim::Watt, Test::AtLeast, bjt.pd, mosfet.pd, always),
+    rule!(
+        "original.vceo",
+        "vds",
+        Dim::Volt,
+        Test::AtLeast,
+        bjt.vceo,
+        mosfet.vds,
+        always
+    ),
+    rule!(
+        "original.ic_max",
+        "id_max",
+        Dim::Amp,
+        Test::AtLeast,
+        bjt.ic_max,
+        mosfet.id_max,
+        always
+    ),
+    rule!(
+        "original.pd",
+        "pd",
+        Dim::Watt,
+        Test::AtLeast,
+        bjt.pd,
+        mosfet.pd,
+        always
+    ),
 ];
 
 /// Issue 6: VRRM, IF, IFSM, and trr where the original's is short.
 const DIODE: &[Rule] = &[
-    rule!("original.vrrm", "vrrm", Dim::Volt, Test::AtLeast, diode.vrrm),
-    rule!("original.if_avg", "if_avg", Dim::Amp, Test::AtLeast, diode.if_avg),
+    rule!(
+        "original.vrrm",
+        "vrrm",
+        Dim::Volt,
+        Test::AtLeast,
+        diode.vrrm
+    ),
+    rule!(
+        "original.if_avg",
+        "if_avg",
+        Dim::Amp,
+        Test::AtLeast,
+        diode.if_avg
+    ),
     rule!("original.ifsm", "ifsm", Dim::Amp, Test::AtLeast, diode.ifsm),
-    rule!("original.trr", "trr", Dim::Second, Test::AtMost, diode.trr, fast),
+    rule!(
+        "original.trr",
+        "trr",
+        Dim::Second,
+        Test::AtMost,
+        diode.trr,
+        fast
+    ),
 ];
 
 /// A zener is its voltage (the usual ±5 % VZ tolerance) and its power.
 const ZENER: &[Rule] = &[
-    rule!("original.vz", "vz", Dim::Volt, Test::Within(ZENER_TOLERANCE), diode.vz),
+    rule!(
+        "original.vz",
+        "vz",
+        Dim::Volt,
+        Test::Within(ZENER_TOLERANCE),
+        diode.vz
+    ),
     rule!("original.pz", "pz", Dim::Watt, Test::AtLeast, diode.pz),
 ];
 
@@ -167,23 +269,101 @@ const ZENER: &[Rule] = &[
 /// must-operate no higher, so the same drive still pulls it in. The coil voltage and the
 /// contact form are checked apart.
 const RELAY: &[Rule] = &[
-    rule!("original.coil_r", "coil_r", Dim::Ohm, Test::Within(COIL_R_TOLERANCE), relay.coil_r),
-    rule!("original.must_operate_v", "must_operate_v", Dim::Volt, Test::AtMost, relay.must_operate_v),
-    rule!("original.contact_a_ac", "contact_a_ac", Dim::Amp, Test::AtLeast, relay.contact_a_ac),
-    rule!("original.contact_v_ac", "contact_v_ac", Dim::Volt, Test::AtLeast, relay.contact_v_ac),
-    rule!("original.contact_a_dc", "contact_a_dc", Dim::Amp, Test::AtLeast, relay.contact_a_dc),
-    rule!("original.contact_v_dc", "contact_v_dc", Dim::Volt, Test::AtLeast, relay.contact_v_dc),
-    rule!("original.inrush_a", "inrush_a", Dim::Amp, Test::AtLeast, relay.inrush_a),
-    rule!("original.dielectric_v", "dielectric_v", Dim::Volt, Test::AtLeast, relay.dielectric_v),
-    rule!("original.impulse_v", "impulse_v", Dim::Volt, Test::AtLeast, relay.impulse_v),
+    rule!(
+        "original.coil_r",
+        "coil_r",
+        Dim::Ohm,
+        Test::Within(COIL_R_TOLERANCE),
+        relay.coil_r
+    ),
+    rule!(
+        "original.must_operate_v",
+        "must_operate_v",
+        Dim::Volt,
+        Test::AtMost,
+        relay.must_operate_v
+    ),
+    rule!(
+        "original.contact_a_ac",
+        "contact_a_ac",
+        Dim::Amp,
+        Test::AtLeast,
+        relay.contact_a_ac
+    ),
+    rule!(
+        "original.contact_v_ac",
+        "contact_v_ac",
+        Dim::Volt,
+        Test::AtLeast,
+        relay.contact_v_ac
+    ),
+    rule!(
+        "original.contact_a_dc",
+        "contact_a_dc",
+        Dim::Amp,
+        Test::AtLeast,
+        relay.contact_a_dc
+    ),
+    rule!(
+        "original.contact_v_dc",
+        "contact_v_dc",
+        Dim::Volt,
+        Test::AtLeast,
+        relay.contact_v_dc
+    ),
+    rule!(
+        "original.inrush_a",
+        "inrush_a",
+        Dim::Amp,
+        Test::AtLeast,
+        relay.inrush_a
+    ),
+    rule!(
+        "original.dielectric_v",
+        "dielectric_v",
+        Dim::Volt,
+        Test::AtLeast,
+        relay.dielectric_v
+    ),
+    rule!(
+        "original.impulse_v",
+        "impulse_v",
+        Dim::Volt,
+        Test::AtLeast,
+        relay.impulse_v
+    ),
 ];
 
 /// A photocell: the same curve (R10, γ) and at least the original's voltage and power.
 const PHOTOCELL: &[Rule] = &[
-    rule!("original.r_10lux", "r_10lux", Dim::Ohm, Test::Within(PHOTOCELL_TOLERANCE), photocell.r_10lux),
-    rule!("original.gamma", "gamma", Dim::Number, Test::Within(PHOTOCELL_TOLERANCE), photocell.gamma),
-    rule!("original.v_max", "v_max", Dim::Volt, Test::AtLeast, photocell.v_max),
-    rule!("original.p_max", "p_max", Dim::Watt, Test::AtLeast, photocell.p_max),
+    rule!(
+        "original.r_10lux",
+        "r_10lux",
+        Dim::Ohm,
+        Test::Within(PHOTOCELL_TOLERANCE),
+        photocell.r_10lux
+    ),
+    rule!(
+        "original.gamma",
+        "gamma",
+        Dim::Number,
+        Test::Within(PHOTOCELL_TOLERANCE),
+        photocell.gamma
+    ),
+    rule!(
+        "original.v_max",
+        "v_max",
+        Dim::Volt,
+        Test::AtLeast,
+        photocell.v_max
+    ),
+    rule!(
+        "original.p_max",
+        "p_max",
+        Dim::Watt,
+        Test::AtLeast,
+        photocell.p_max
+    ),
 ];
 
 /// The ratings compared for an original of `kind` and a candidate paired with it.
@@ -212,7 +392,9 @@ pub fn check(rule: &Rule, original: &Part, candidate: &Part) -> Option<Check> {
     let check = match rule.test {
         Test::AtLeast => at_least(rule.need, rule.name, value, Some(bar), rule.dim),
         Test::AtMost => at_most(rule.need, rule.name, value, Some(bar), rule.dim),
-        Test::Within(tolerance) => within(rule.need, rule.name, value, Some(bar), tolerance, rule.dim),
+        Test::Within(tolerance) => {
+            within(rule.need, rule.name, value, Some(bar), tolerance, rule.dim)
+        }
     };
     Some(check)
 }
@@ -233,16 +415,25 @@ pub fn distance(rules: &[Rule], original: &Part, candidate: &Part) -> f64 {
         .sum()
 }
 
-/// hFE is only comparable at a comparable collector current: gain falls away from the
-/// current it is specified at, so a figure quoted at under half the original's test current
-/// does not show the candidate keeps the original's gain (common practice, the same fraction
-/// fit uses). The check becomes `unknown` then, with the reason.
-pub fn gain_current(check: &mut Check, original: &Part, candidate: &Part) {
+/// hFE and VCE(sat) are only comparable at comparable collector currents: gain falls and
+/// saturation voltage rises with current, so a figure quoted at under half the original's test
+/// current flatters the candidate and does not show it matches the original (common practice,
+/// the same fraction fit uses for hFE). A passing check becomes `unknown` then, with the
+/// reason; one quoted at a higher current is conservative and stands.
+pub fn test_current(check: &mut Check, original: &Part, candidate: &Part) {
     let (Some(a), Some(b)) = (original.bjt(), candidate.bjt()) else {
         return;
     };
-    match (a.hfe_at_ic.get(), b.hfe_at_ic.get()) {
-        // A gain already short at a lower current is shorter still at the original's.
+    let (what, at_original, at_candidate) = match check.need {
+        "original.hfe_min" => ("hFE", a.hfe_at_ic.get(), b.hfe_at_ic.get()),
+        "original.vce_sat" => ("VCE(sat)", a.vce_sat_at_ic.get(), b.vce_sat_at_ic.get()),
+        _ => return,
+    };
+    if check.rating.is_none() {
+        return;
+    }
+    match (at_original, at_candidate) {
+        // A figure already short at a lower current is shorter still at the original's.
         (Some(at_original), Some(at_candidate))
             if at_candidate < HFE_CURRENT_FRACTION * at_original
                 && check.verdict == CheckVerdict::Pass =>
@@ -250,16 +441,28 @@ pub fn gain_current(check: &mut Check, original: &Part, candidate: &Part) {
             check.verdict = CheckVerdict::Unknown;
             check.headroom = None;
             check.note = Cow::Owned(format!(
-                "hFE given at {}, under half the original's {}: not comparable; check the gain curve",
+                "{what} given at {}, under half the original's {}: not comparable; check the curve",
                 format_eng(at_candidate, Dim::Amp),
                 format_eng(at_original, Dim::Amp)
             ));
         }
         (Some(_), None) | (None, Some(_)) => {
-            check.note = Cow::Borrowed(
-                "the current hFE is given at is missing on one side: compare the gain curves",
-            );
+            check.note = Cow::Owned(format!(
+                "the current {what} is given at is missing on one side: compare the curves"
+            ));
         }
         _ => {}
+    }
+}
+
+/// A Schottky diode conducts by majority carriers and stores no minority charge, so it has no
+/// reverse recovery to speak of and makers seldom give trr (device physics; common
+/// practice). Its missing trr passes the check of a fast original, saying why.
+pub fn schottky_recovery(check: &mut Check, candidate: &Part) {
+    if check.need == "original.trr" && candidate.kind == Kind::Schottky && check.rating.is_none() {
+        check.verdict = CheckVerdict::Pass;
+        check.note = Cow::Borrowed(
+            "a Schottky has no minority-carrier recovery: trr negligible (majority carriers)",
+        );
     }
 }

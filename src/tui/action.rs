@@ -32,6 +32,10 @@ pub enum Action {
     Back,
     /// Keep or drop the selected part.
     ToggleShortlist,
+    /// Find substitutes for the selected part (the Swap panel).
+    FindSubstitutes,
+    /// Switch the needs between nominal and worst case.
+    ToggleWorstCase,
     /// Start a fuzzy search of the parts.
     StartSearch,
     /// Next sort key.

@@ -24,18 +24,21 @@ pub enum Panel {
     Detail,
     /// The kept parts per role.
     Shortlist,
+    /// Substitutes for a part.
+    Swap,
     /// Rows rejected and warnings from loading.
     Library,
 }
 
 impl Panel {
     /// Every panel in Tab order.
-    pub const ALL: [Panel; 6] = [
+    pub const ALL: [Panel; 7] = [
         Panel::Stage,
         Panel::Needs,
         Panel::Parts,
         Panel::Detail,
         Panel::Shortlist,
+        Panel::Swap,
         Panel::Library,
     ];
 
@@ -48,6 +51,7 @@ impl Panel {
             Panel::Parts => "Parts",
             Panel::Detail => "Detail",
             Panel::Shortlist => "Shortlist",
+            Panel::Swap => "Swap",
             Panel::Library => "Library",
         }
     }
@@ -134,8 +138,14 @@ pub struct App {
     pub only_fits: bool,
     /// The search, when one is active.
     pub search: Option<Search>,
+    /// Whether needs (and so verdicts) are taken at their worst corners.
+    pub worst_case: bool,
     /// The parts kept.
     pub shortlist: Shortlist,
+    /// Substitutes for a part, when asked for.
+    pub swap: Option<crate::swap::Swap>,
+    /// Cursor in the Swap panel.
+    pub swap_cursor: usize,
     /// A question waiting for an answer.
     pub prompt: Option<Prompt>,
     /// The help overlay is shown.
@@ -181,6 +191,9 @@ impl App {
             only_fits: false,
             search: None,
             shortlist: Shortlist::default(),
+            worst_case: false,
+            swap: None,
+            swap_cursor: 0,
             prompt: None,
             help: false,
             message: None,
@@ -189,16 +202,88 @@ impl App {
             visible: Vec::new(),
             matcher: SkimMatcherV2::default(),
         };
+        app.worst_case = app.doc.stage.rules.worst_case;
         app.recompute();
         app
     }
 
     /// Needs, fit and the visible list again, after the stage or a view option changed.
     pub fn recompute(&mut self) {
-        self.needs = needs::compute(&self.doc.stage, Some(&self.library));
+        // The toggle decides, whatever the stage's own `worst_case` says; the worst-case needs
+        // carry their nominal values for the side-by-side view.
+        self.needs = if self.worst_case {
+            needs::compute_both(&self.doc.stage, Some(&self.library)).worst
+        } else {
+            needs::compute_nominal(&self.doc.stage, Some(&self.library))
+        };
         self.fit = fit::evaluate(&self.doc.stage, &self.needs, &self.library, self.sort);
         self.role = self.role.min(self.fit.roles.len().saturating_sub(1));
         self.refilter();
+        if let Some(original) = self.swap.as_ref().map(|s| s.original) {
+            self.swap = self.swap_for(original);
+            self.swap_cursor = self.swap_cursor.min(
+                self.swap
+                    .as_ref()
+                    .map_or(0, |s| s.candidates.len().saturating_sub(1)),
+            );
+        }
+    }
+
+    /// Substitutes for a part with the stage's needs as the bar, or the part's own ratings when
+    /// no role of the stage takes its kind.
+    fn swap_for(&self, original: usize) -> Option<crate::swap::Swap> {
+        use crate::swap::{Bar, substitutes};
+        substitutes(
+            &self.library,
+            original,
+            Bar::Stage(&self.doc.stage, &self.needs),
+        )
+        .or_else(|_| substitutes(&self.library, original, Bar::Original))
+        .ok()
+    }
+
+    /// Substitutes for a part as the Swap panel computes them (for tests and screenshots).
+    #[must_use]
+    pub fn swap_for_test(&self, original: usize) -> Option<crate::swap::Swap> {
+        self.swap_for(original)
+    }
+
+    /// The part the cursor is on in the panel shown (Parts, Detail, Shortlist or Swap).
+    fn part_under_cursor(&self) -> Option<(fit::Role, usize)> {
+        match self.panel {
+            Panel::Shortlist => self.shortlist_rows().get(self.shortlist_cursor).copied(),
+            Panel::Swap => {
+                let swap = self.swap.as_ref()?;
+                let part = swap.candidates.get(self.swap_cursor)?.part;
+                let kind = self.library.parts.get(part)?.kind;
+                let role = swap
+                    .role
+                    .or_else(|| crate::swap::role_for(&self.doc.stage, kind).ok())?;
+                Some((role, part))
+            }
+            _ => {
+                let role = self.fit.roles.get(self.role)?;
+                Some((role.role, self.selected()?.part))
+            }
+        }
+    }
+
+    fn find_substitutes(&mut self) {
+        let part = match self.panel {
+            Panel::Swap => self
+                .swap
+                .as_ref()
+                .and_then(|s| s.candidates.get(self.swap_cursor))
+                .map(|c| c.part),
+            _ => self.part_under_cursor().map(|(_, p)| p),
+        };
+        let Some(part) = part else {
+            self.message = Some("no part selected: pick one in the Parts panel first".to_string());
+            return;
+        };
+        self.swap = self.swap_for(part);
+        self.swap_cursor = 0;
+        self.focus(Panel::Swap);
     }
 
     /// The visible list of the Parts panel again (after a search or filter change).
@@ -343,6 +428,19 @@ impl App {
                 }
             }
             Action::ToggleShortlist => self.toggle_shortlist(),
+            Action::FindSubstitutes => self.find_substitutes(),
+            Action::ToggleWorstCase => {
+                self.worst_case = !self.worst_case;
+                self.recompute();
+                self.message = Some(
+                    if self.worst_case {
+                        "needs at their worst corners (supply, temperature, tolerances)"
+                    } else {
+                        "needs at nominal"
+                    }
+                    .to_string(),
+                );
+            }
             Action::StartSearch => {
                 self.focus(Panel::Parts);
                 let query = self.search.take().map(|s| s.query).unwrap_or_default();
@@ -404,6 +502,7 @@ impl App {
             Panel::Parts => self.visible.len(),
             Panel::Detail => self.selected().map_or(0, |c| c.checks.len() + 12),
             Panel::Shortlist => self.shortlist.len(),
+            Panel::Swap => self.swap.as_ref().map_or(0, |s| s.candidates.len()),
             Panel::Library => self.library.rejected.len() + self.library.warnings.len(),
         }
     }
@@ -416,6 +515,7 @@ impl App {
             Panel::Parts => &mut self.parts_cursor,
             Panel::Detail => &mut self.detail_scroll,
             Panel::Shortlist => &mut self.shortlist_cursor,
+            Panel::Swap => &mut self.swap_cursor,
             Panel::Library => &mut self.library_cursor,
         };
         let last = rows.saturating_sub(1) as isize;
@@ -697,20 +797,11 @@ impl App {
     }
 
     fn toggle_shortlist(&mut self) {
-        let (role, part) = match self.panel {
-            Panel::Shortlist => match self.shortlist_rows().get(self.shortlist_cursor) {
-                Some(&pair) => pair,
-                None => return,
-            },
-            _ => {
-                let Some(role) = self.fit.roles.get(self.role) else {
-                    return;
-                };
-                let Some(candidate) = self.selected() else {
-                    return;
-                };
-                (role.role, candidate.part)
+        let Some((role, part)) = self.part_under_cursor() else {
+            if self.panel == Panel::Swap {
+                self.message = Some("this stage has no role for that kind of part".to_string());
             }
+            return;
         };
         let kept = self.shortlist.toggle(role, part);
         let number = self

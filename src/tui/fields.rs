@@ -135,9 +135,21 @@ pub const FIELDS: &[Field] = &[
     field("rules", "quantity", Integer, "1"),
     field("rules", "allow_obsolete", Bool, "false"),
     field("rules", "require_rohs", Bool, "false"),
+    field("rules", "worst_case", Bool, "false"),
+    field("rules", "temperature_min", Quantity, "-20 °C"),
+    field("rules", "temperature_max", Quantity, "60 °C"),
+    field("rules", "coil_rise", Quantity, "30 K"),
     field("assume", "vce_sat", Quantity, "0.2 V"),
     field("assume", "vbe_on", Quantity, "0.7 V"),
     field("assume", "diode_vf", Quantity, "0.7 V"),
+    field("assume", "vbe_tempco", Quantity, "-2 mV/K"),
+    field("assume", "hfe_tempco", Quantity, "0.5 %/K"),
+    field(
+        "assume",
+        "resistor_tolerance",
+        Quantity,
+        "the E-series tolerance",
+    ),
 ];
 
 /// The stage as a TOML document plus the stage it reads as.

@@ -264,3 +264,71 @@ fn edits_are_autosaved_and_offered_back_after_a_crash() {
     assert!(!autosave.exists());
     assert!(crate::stage::Stage::read(&path).unwrap().rules.require_rohs);
 }
+
+#[test]
+fn substitutes_are_found_from_a_part_and_can_be_kept() {
+    let mut app = demo_app();
+    app.update(Action::Panel(2));
+    app.update(Action::FindSubstitutes);
+    assert_eq!(app.panel, Panel::Swap);
+    let swap = app.swap.as_ref().expect("a swap for the selected part");
+    assert!(!swap.candidates.is_empty());
+    let first = swap.candidates[0].part;
+    app.update(Action::ToggleShortlist);
+    assert!(
+        app.shortlist
+            .roles
+            .iter()
+            .any(|(_, parts)| parts.contains(&first)),
+        "{:?}",
+        app.message
+    );
+    insta::assert_snapshot!("panel_swap_found", render(&app, 120, 32));
+}
+
+#[test]
+fn the_pin_trap_is_drawn_for_a_twin_in_the_other_order() {
+    let mut app = demo_app();
+    let original = app
+        .library
+        .parts
+        .iter()
+        .position(|p| &*p.number == "BRN2210E")
+        .unwrap();
+    app.swap = app.swap_for_test(original);
+    let swap = app.swap.as_ref().unwrap();
+    let twin = swap
+        .candidates
+        .iter()
+        .position(|c| &*app.library.parts[c.part].number == "BRN2210C")
+        .expect("the C-B-E twin is a candidate");
+    assert_eq!(swap.candidates[twin].class, crate::swap::Class::Rework);
+    app.swap_cursor = twin;
+    app.panel = Panel::Swap;
+    let screen = render(&app, 120, 32);
+    assert!(screen.contains("pins 1 and 3 swap"), "{screen}");
+    assert!(screen.contains("↕"), "{screen}");
+}
+
+#[test]
+fn the_worst_case_toggle_shows_both_values_and_tightens_needs() {
+    let mut app = demo_app();
+    let nominal = app.needs.value("relay.operate_voltage").unwrap();
+    app.update(Action::Panel(1));
+    app.update(Action::ToggleWorstCase);
+    assert!(app.worst_case);
+    let need = app.needs.get("relay.operate_voltage").unwrap();
+    assert!(
+        need.value.unwrap() < nominal,
+        "a hot coil needs more volts: the must-operate bound falls"
+    );
+    assert_eq!(need.nominal, Some(nominal));
+    let screen = render(&app, 120, 32);
+    assert!(
+        screen.contains("WORST CASE") && screen.contains("nominal"),
+        "{screen}"
+    );
+    insta::assert_snapshot!("panel_needs_worst_case", screen);
+    app.update(Action::ToggleWorstCase);
+    assert_eq!(app.needs.value("relay.operate_voltage"), Some(nominal));
+}

@@ -88,7 +88,7 @@ struct Areas {
     bottom: Rect,
 }
 
-fn split(area: Rect, panel: Panel) -> Areas {
+fn split(area: Rect, panel: Panel, worst_case: bool) -> Areas {
     let [tabs, body, status, bottom] = Layout::vertical([
         Constraint::Length(1),
         Constraint::Min(0),
@@ -98,9 +98,11 @@ fn split(area: Rect, panel: Panel) -> Areas {
     .areas(area);
     let ratio = match panel {
         Panel::Stage => [Constraint::Percentage(50), Constraint::Percentage(50)],
+        Panel::Needs if worst_case => [Constraint::Percentage(66), Constraint::Percentage(34)],
         Panel::Needs => [Constraint::Percentage(45), Constraint::Percentage(55)],
         Panel::Parts | Panel::Detail => [Constraint::Percentage(66), Constraint::Percentage(34)],
         Panel::Shortlist => [Constraint::Percentage(55), Constraint::Percentage(45)],
+        Panel::Swap => [Constraint::Percentage(55), Constraint::Percentage(45)],
         Panel::Library => [Constraint::Percentage(100), Constraint::Percentage(0)],
     };
     let [left, right] = Layout::horizontal(ratio).areas(body);
@@ -128,7 +130,7 @@ pub fn draw(frame: &mut Frame<'_>, app: &App, theme: Theme) {
         frame.render_widget(Paragraph::new(text).wrap(Wrap { trim: true }), area);
         return;
     }
-    let areas = split(area, app.panel);
+    let areas = split(area, app.panel, app.worst_case);
     tabs(frame, app, theme, areas.tabs);
     match app.panel {
         Panel::Stage => {
@@ -150,6 +152,10 @@ pub fn draw(frame: &mut Frame<'_>, app: &App, theme: Theme) {
         Panel::Shortlist => {
             shortlist(frame, app, theme, areas.left);
             detail(frame, app, theme, areas.right, false);
+        }
+        Panel::Swap => {
+            swap_list(frame, app, theme, areas.left);
+            swap_detail(frame, app, theme, areas.right);
         }
         Panel::Library => library(frame, app, theme, areas.left),
     }
@@ -249,19 +255,33 @@ fn needs_list(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect, focuse
         .filter(|p| p.severity == crate::needs::Severity::Error)
         .count();
     let title = format!(
-        "Needs: {} computed{}",
+        "Needs: {} computed{}{}",
         app.needs.needs.len(),
         if errors > 0 {
             format!(", {errors} error(s)")
         } else {
             String::new()
+        },
+        if app.worst_case {
+            " · WORST CASE (c: nominal)"
+        } else {
+            " · nominal (c: worst case)"
         }
     );
     let block = block(title, focused, theme);
     let inner = block.inner(area);
     frame.render_widget(block, area);
-    let height = inner.height as usize;
+    let height = inner.height.saturating_sub(u16::from(app.worst_case)) as usize;
     let mut lines = Vec::new();
+    if app.worst_case {
+        lines.push(Line::from(Span::styled(
+            format!(
+                "{:<28}{:<3}{:<11}{:<11}corner",
+                "need", "", "worst", "nominal"
+            ),
+            Style::new().add_modifier(Modifier::BOLD),
+        )));
+    }
     for i in window(app.needs_cursor, app.needs.needs.len(), height) {
         let need = &app.needs.needs[i];
         let flagged = app
@@ -269,15 +289,30 @@ fn needs_list(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect, focuse
             .problems
             .iter()
             .any(|p| p.need == Some(need.id) && p.severity == crate::needs::Severity::Error);
-        let mut line = Line::from(vec![
+        let value = if flagged {
+            Span::styled(format!("{} ✗", need.shown()), theme.fg(Color::Red))
+        } else {
+            Span::raw(need.shown())
+        };
+        let mut spans = vec![
             Span::raw(format!("{:<28}", need.id)),
             Span::styled(format!("{:<3}", need.bound.symbol()), theme.dim()),
-            if flagged {
-                Span::styled(format!("{} ✗", need.shown()), theme.fg(Color::Red))
-            } else {
-                Span::raw(need.shown())
-            },
-        ]);
+        ];
+        if app.worst_case {
+            spans.push(Span::raw(format!("{:<11}", need.shown())));
+            spans.push(Span::styled(
+                format!("{:<11}", need.nominal_shown()),
+                theme.dim(),
+            ));
+            spans.push(Span::raw(
+                need.corner
+                    .as_ref()
+                    .map_or(String::new(), |c| c.to_string()),
+            ));
+        } else {
+            spans.push(value);
+        }
+        let mut line = Line::from(spans);
         if focused && i == app.needs_cursor {
             line = line.style(theme.selected());
         }
@@ -833,5 +868,177 @@ fn help(frame: &mut Frame<'_>, theme: Theme, area: Rect) {
     frame.render_widget(
         Paragraph::new(lines).block(block("Help (? or Esc closes)".to_string(), true, theme)),
         popup,
+    );
+}
+
+fn class_style(theme: Theme, class: crate::swap::Class) -> Style {
+    theme.fg(match class {
+        crate::swap::Class::DropIn => Color::Green,
+        crate::swap::Class::Rework => Color::Yellow,
+        crate::swap::Class::Unsuitable => Color::Red,
+    })
+}
+
+fn swap_list(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let Some(swap) = &app.swap else {
+        let block = block("Swap".to_string(), true, theme);
+        frame.render_widget(
+            Paragraph::new("no part chosen: press r on a part (Parts, Detail or Shortlist) to find its substitutes")
+                .style(theme.dim())
+                .wrap(Wrap { trim: true })
+                .block(block),
+            area,
+        );
+        return;
+    };
+    let lib = &app.library;
+    let original = &lib.parts[swap.original];
+    let bar = match (&swap.stage, swap.role) {
+        (Some(_), Some(role)) => format!("held to the stage's {} needs", role.name()),
+        _ => "held to the original's ratings".to_string(),
+    };
+    let title = format!(
+        "Swap: {} ({} {} {}) · {} drop-in, {} rework · {bar}",
+        clean(&original.number),
+        original.kind.name(),
+        clean(lib.text(original.package)),
+        clean(lib.text(original.pinout)),
+        swap.count(crate::swap::Class::DropIn),
+        swap.count(crate::swap::Class::Rework),
+    );
+    let block = block(title, true, theme);
+    let inner = block.inner(area);
+    frame.render_widget(block, area);
+    let height = inner.height as usize;
+    let mut lines = Vec::new();
+    for i in window(app.swap_cursor, swap.candidates.len(), height) {
+        let c = &swap.candidates[i];
+        let part = &lib.parts[c.part];
+        let kept = swap
+            .role
+            .or_else(|| crate::swap::role_for(&app.doc.stage, part.kind).ok())
+            .is_some_and(|role| app.shortlist.contains(role, c.part));
+        let mut line = Line::from(vec![
+            Span::raw(if kept { "● " } else { "  " }),
+            Span::styled(
+                format!("{} {:<11}", c.class.glyph(), c.class.name()),
+                class_style(theme, c.class),
+            ),
+            Span::raw(format!("{:<14}", clean(&part.number))),
+            Span::raw(format!("{:<8}", clean(lib.text(part.package)))),
+            Span::raw(format!("{:<5}", clean(lib.text(part.pinout)))),
+            Span::styled(format!(" {:.2}", c.score), theme.dim()),
+            Span::raw(format!(
+                "  {}",
+                c.pin_changes
+                    .first()
+                    .map(|s| clean(s).into_owned())
+                    .or_else(|| c.failing().next().map(|k| format!(
+                        "{} {}",
+                        k.need,
+                        k.verdict.name()
+                    )))
+                    .unwrap_or_default()
+            )),
+        ]);
+        if i == app.swap_cursor {
+            line = line.style(theme.selected());
+        }
+        lines.push(line);
+    }
+    frame.render_widget(Paragraph::new(lines), inner);
+}
+
+/// The two pin orders one above the other, with the pins that move marked.
+fn pin_diagram(original: &str, candidate: &str, names: (&str, &str)) -> Vec<Line<'static>> {
+    let a = crate::swap::pins::pins(original);
+    let b = crate::swap::pins::pins(candidate);
+    let n = a.len().max(b.len());
+    if n == 0 {
+        return vec![Line::from("pin order not given: check the datasheet")];
+    }
+    let row = |label: &str, cells: Vec<String>| {
+        Line::from(format!(
+            "{label:<14}{}",
+            cells.iter().map(|c| format!("{c:^5}")).collect::<String>()
+        ))
+    };
+    let get = |v: &Vec<&str>, i: usize| v.get(i).map_or("?".to_string(), |s| clean(s).into_owned());
+    vec![
+        row("pin", (1..=n).map(|i| i.to_string()).collect()),
+        row(names.0, (0..n).map(|i| get(&a, i)).collect()),
+        row(names.1, (0..n).map(|i| get(&b, i)).collect()),
+        row(
+            "",
+            (0..n)
+                .map(|i| {
+                    if get(&a, i).eq_ignore_ascii_case(&get(&b, i)) {
+                        "·".to_string()
+                    } else {
+                        "↕".to_string()
+                    }
+                })
+                .collect(),
+        ),
+    ]
+}
+
+fn swap_detail(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let block = block("Substitute".to_string(), false, theme);
+    let Some(swap) = &app.swap else {
+        frame.render_widget(block, area);
+        return;
+    };
+    let Some(c) = swap.candidates.get(app.swap_cursor) else {
+        frame.render_widget(
+            Paragraph::new("no candidate of a compatible kind").block(block),
+            area,
+        );
+        return;
+    };
+    let lib = &app.library;
+    let original = &lib.parts[swap.original];
+    let part = &lib.parts[c.part];
+    let mut lines = vec![
+        Line::from(vec![
+            Span::styled(
+                clean(&part.number).into_owned(),
+                Style::new().add_modifier(Modifier::BOLD),
+            ),
+            Span::raw("  "),
+            Span::styled(
+                format!("{} {}", c.class.glyph(), c.class.name()),
+                class_style(theme, c.class),
+            ),
+            Span::raw(format!("  for {}", clean(&original.number))),
+        ]),
+        Line::from(""),
+    ];
+    lines.extend(pin_diagram(
+        lib.text(original.pinout),
+        lib.text(part.pinout),
+        (&clean(&original.number), &clean(&part.number)),
+    ));
+    for change in &c.pin_changes {
+        lines.push(Line::from(Span::styled(
+            clean(change).into_owned(),
+            theme.fg(Color::Yellow),
+        )));
+    }
+    lines.push(Line::from(""));
+    for check in &c.checks {
+        lines.push(Line::from(Span::styled(
+            clean(&check_line(check)).into_owned(),
+            theme.check(check.verdict),
+        )));
+    }
+    for note in c.notes.iter().chain(&swap.notes) {
+        lines.push(Line::from(format!("note: {}", clean(note))));
+    }
+    frame.render_widget(
+        Paragraph::new(lines)
+            .block(block)
+            .wrap(Wrap { trim: false }),
+        area,
     );
 }

@@ -26,7 +26,7 @@ pub fn format_eng(value: f64, dim: Dim) -> String {
         return "—".to_string();
     }
     if !dim.takes_prefix() {
-        let shown = if dim == Dim::Percent {
+        let shown = if matches!(dim, Dim::Percent | Dim::PercentPerKelvin) {
             value * 100.0
         } else {
             value

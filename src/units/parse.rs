@@ -380,12 +380,16 @@ fn unit_scale(unit: &str, dim: Dim) -> Option<f64> {
         Dim::Metre => &["m", "metre", "meter", "metres", "meters"],
         Dim::Percent => return matches!(unit, "%" | "percent").then_some(0.01),
         Dim::Number => &["x", "X", "×"],
+        Dim::VoltPerKelvin => &["V/K", "V/°C", "V/ºC", "V/C", "V/degC"],
+        Dim::PercentPerKelvin => {
+            return matches!(unit, "%/K" | "%/°C" | "%/ºC" | "%/C" | "%/degC").then_some(0.01);
+        }
     };
     spellings.contains(&unit).then_some(1.0)
 }
 
 /// All dimensions, to name the one a mistaken unit belongs to.
-const ALL_DIMS: [Dim; 16] = [
+const ALL_DIMS: [Dim; 18] = [
     Dim::Volt,
     Dim::Amp,
     Dim::Ohm,
@@ -402,6 +406,8 @@ const ALL_DIMS: [Dim; 16] = [
     Dim::Metre,
     Dim::Percent,
     Dim::Number,
+    Dim::VoltPerKelvin,
+    Dim::PercentPerKelvin,
 ];
 
 /// The dimension a unit spelling belongs to, if any.
@@ -470,6 +476,38 @@ mod tests {
         assert!(close(value("540 nm", Dim::Metre), 540e-9));
         assert!(close(value("200 C/W", Dim::KelvinPerWatt), 200.0));
         assert!(close(value("6x", Dim::Number), 6.0));
+    }
+
+    /// Temperature coefficients as the worst-case keys take them: a base-emitter drift of
+    /// -2 mV/K and a gain drift of +0.5 %/K (values of issue 10; the units are SI, V/K, and
+    /// a percentage per kelvin held as a fraction like every percentage).
+    #[test]
+    fn temperature_coefficients_parse() {
+        assert!(close(value("-2 mV/K", Dim::VoltPerKelvin), -2e-3));
+        assert!(close(value("-2mV/K", Dim::VoltPerKelvin), -2e-3));
+        assert!(close(value("-0.002 V/°C", Dim::VoltPerKelvin), -2e-3));
+        assert!(close(value("+0.5 %/K", Dim::PercentPerKelvin), 0.005));
+        assert!(close(value("0,5 %/°C", Dim::PercentPerKelvin), 0.005));
+        assert!(matches!(
+            parse("-2 mV", Dim::VoltPerKelvin),
+            Err(UnitError::WrongDimension { .. })
+        ));
+        assert!(matches!(
+            parse("0.5 %/K", Dim::VoltPerKelvin),
+            Err(UnitError::WrongDimension { .. })
+        ));
+        assert!(matches!(
+            parse("-2 mV/K", Dim::Volt),
+            Err(UnitError::WrongDimension { .. })
+        ));
+        assert_eq!(
+            super::super::format_eng(-2e-3, Dim::VoltPerKelvin),
+            "-2.00 mV/K"
+        );
+        assert_eq!(
+            super::super::format_eng(0.005, Dim::PercentPerKelvin),
+            "0.500 %/K"
+        );
     }
 
     /// Every prefix of the SI Brochure (BIPM, 9th edition, 2019, table 7) from femto to tera.
