@@ -26,19 +26,22 @@ pub enum Panel {
     Shortlist,
     /// Substitutes for a part.
     Swap,
+    /// Switching waveforms of the stage and the selected candidate.
+    Trace,
     /// Rows rejected and warnings from loading.
     Library,
 }
 
 impl Panel {
     /// Every panel in Tab order.
-    pub const ALL: [Panel; 7] = [
+    pub const ALL: [Panel; 8] = [
         Panel::Stage,
         Panel::Needs,
         Panel::Parts,
         Panel::Detail,
         Panel::Shortlist,
         Panel::Swap,
+        Panel::Trace,
         Panel::Library,
     ];
 
@@ -52,6 +55,7 @@ impl Panel {
             Panel::Detail => "Detail",
             Panel::Shortlist => "Shortlist",
             Panel::Swap => "Swap",
+            Panel::Trace => "Trace",
             Panel::Library => "Library",
         }
     }
@@ -146,6 +150,12 @@ pub struct App {
     pub swap: Option<crate::swap::Swap>,
     /// Cursor in the Swap panel.
     pub swap_cursor: usize,
+    /// The stage's own trace (the stage's assumptions), when the Trace panel was opened.
+    pub trace_stage: Option<Result<crate::trace::Trace, String>>,
+    /// The trace with the selected candidate in its role.
+    pub trace_part: Option<Result<crate::trace::Trace, String>>,
+    /// The time cursor of the Trace panel, as a fraction of the time span (0 to 1).
+    pub trace_cursor: f64,
     /// A question waiting for an answer.
     pub prompt: Option<Prompt>,
     /// The help overlay is shown.
@@ -194,6 +204,9 @@ impl App {
             worst_case: false,
             swap: None,
             swap_cursor: 0,
+            trace_stage: None,
+            trace_part: None,
+            trace_cursor: 0.5,
             prompt: None,
             help: false,
             message: None,
@@ -219,6 +232,7 @@ impl App {
         self.fit = fit::evaluate(&self.doc.stage, &self.needs, &self.library, self.sort);
         self.role = self.role.min(self.fit.roles.len().saturating_sub(1));
         self.refilter();
+        self.retrace();
         if let Some(original) = self.swap.as_ref().map(|s| s.original) {
             self.swap = self.swap_for(original);
             self.swap_cursor = self.swap_cursor.min(
@@ -403,6 +417,9 @@ impl App {
                 let forward = action == Action::Right;
                 if self.panel == Panel::Stage {
                     self.cycle_field(forward);
+                } else if self.panel == Panel::Trace {
+                    let step = if forward { 0.02 } else { -0.02 };
+                    self.trace_cursor = (self.trace_cursor + step).clamp(0.0, 1.0);
                 } else {
                     self.cycle_role(forward);
                 }
@@ -493,6 +510,34 @@ impl App {
         if panel == Panel::Detail {
             self.detail_scroll = 0;
         }
+        if panel == Panel::Trace {
+            self.retrace();
+        }
+    }
+
+    /// The traces again: the stage's own, and with the selected candidate. Only while the
+    /// Trace panel is shown, so other panels never wait for the solver.
+    pub fn retrace(&mut self) {
+        if self.panel != Panel::Trace {
+            return;
+        }
+        let stage = &self.doc.stage;
+        self.trace_stage = Some(
+            crate::trace::simulate(stage, &self.needs, &self.library, None)
+                .map_err(|e| e.to_string()),
+        );
+        let role = self.fit.roles.get(self.role).map(|r| r.role);
+        self.trace_part = self.selected().map(|c| c.part).and_then(|index| {
+            let part = self.library.parts.get(index)?;
+            // A sensor's photocell does not change the load's waveform: nothing to add.
+            if role == Some(fit::Role::Sensor) {
+                return None;
+            }
+            Some(
+                crate::trace::simulate(stage, &self.needs, &self.library, Some(part))
+                    .map_err(|e| e.to_string()),
+            )
+        });
     }
 
     fn rows(&self) -> usize {
@@ -503,11 +548,19 @@ impl App {
             Panel::Detail => self.selected().map_or(0, |c| c.checks.len() + 12),
             Panel::Shortlist => self.shortlist.len(),
             Panel::Swap => self.swap.as_ref().map_or(0, |s| s.candidates.len()),
+            Panel::Trace => self.visible.len(),
             Panel::Library => self.library.rejected.len() + self.library.warnings.len(),
         }
     }
 
     fn move_cursor(&mut self, delta: isize) {
+        self.move_cursor_only(delta);
+        if self.panel == Panel::Trace {
+            self.retrace();
+        }
+    }
+
+    fn move_cursor_only(&mut self, delta: isize) {
         let rows = self.rows();
         let cursor = match self.panel {
             Panel::Stage => &mut self.stage_cursor,
@@ -516,6 +569,7 @@ impl App {
             Panel::Detail => &mut self.detail_scroll,
             Panel::Shortlist => &mut self.shortlist_cursor,
             Panel::Swap => &mut self.swap_cursor,
+            Panel::Trace => &mut self.parts_cursor,
             Panel::Library => &mut self.library_cursor,
         };
         let last = rows.saturating_sub(1) as isize;

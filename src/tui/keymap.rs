@@ -121,7 +121,7 @@ pub const BINDINGS: &[Binding] = &[
         Action::Left,
         Scope::Global,
         "← h",
-        "previous role; previous choice on the Stage panel",
+        "previous role; previous choice (Stage); time cursor (Trace)",
     ),
     bind(
         KeyCode::Char('h'),
@@ -137,7 +137,7 @@ pub const BINDINGS: &[Binding] = &[
         Action::Right,
         Scope::Global,
         "→ l",
-        "next role; next choice on the Stage panel",
+        "next role; next choice (Stage); time cursor (Trace)",
     ),
     bind(
         KeyCode::Char('l'),
@@ -274,8 +274,8 @@ pub const BINDINGS: &[Binding] = &[
         NONE,
         Action::Panel(0),
         Scope::Global,
-        "1-7",
-        "go to Stage, Needs, Parts, Detail, Shortlist, Swap, Library",
+        "1-8",
+        "go to Stage, Needs, Parts, Detail, Shortlist, Swap, Trace, Library",
     ),
     bind(
         KeyCode::Char('2'),
@@ -321,6 +321,14 @@ pub const BINDINGS: &[Binding] = &[
         KeyCode::Char('7'),
         NONE,
         Action::Panel(6),
+        Scope::Global,
+        "",
+        "",
+    ),
+    bind(
+        KeyCode::Char('8'),
+        NONE,
+        Action::Panel(7),
         Scope::Global,
         "",
         "",

@@ -332,3 +332,44 @@ fn the_worst_case_toggle_shows_both_values_and_tightens_needs() {
     app.update(Action::ToggleWorstCase);
     assert_eq!(app.needs.value("relay.operate_voltage"), Some(nominal));
 }
+
+#[test]
+fn the_trace_follows_the_candidate_and_shows_the_rating() {
+    let mut app = demo_app();
+    app.update(Action::Panel(6));
+    assert_eq!(app.panel, Panel::Trace);
+    let stage = app.trace_stage.as_ref().unwrap().as_ref().unwrap();
+    assert!(
+        stage.peak_voltage.unwrap() > 13.0,
+        "the coil kicks above the supply"
+    );
+    let first = app
+        .trace_part
+        .as_ref()
+        .unwrap()
+        .as_ref()
+        .unwrap()
+        .part
+        .clone();
+    app.update(Action::Down);
+    let second = app
+        .trace_part
+        .as_ref()
+        .unwrap()
+        .as_ref()
+        .unwrap()
+        .part
+        .clone();
+    assert_ne!(
+        first, second,
+        "the panel follows the cursor through the candidates"
+    );
+    app.update(Action::Right);
+    assert!(app.trace_cursor > 0.5);
+    let screen = render(&app, 120, 32);
+    assert!(
+        screen.contains("VCEO") && screen.contains("peak"),
+        "{screen}"
+    );
+    insta::assert_snapshot!("panel_trace", screen);
+}

@@ -13,8 +13,11 @@ use crate::units::{Dim, format_eng};
 use ratatui::Frame;
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::{Color, Modifier, Style};
+use ratatui::symbols::Marker;
 use ratatui::text::{Line, Span};
-use ratatui::widgets::{Block, Borders, Cell, Clear, Paragraph, Row, Table, Wrap};
+use ratatui::widgets::{
+    Axis, Block, Borders, Cell, Chart, Clear, Dataset, GraphType, Paragraph, Row, Table, Wrap,
+};
 
 /// The smallest terminal the layout is drawn in.
 pub const MIN_WIDTH: u16 = 80;
@@ -103,6 +106,7 @@ fn split(area: Rect, panel: Panel, worst_case: bool) -> Areas {
         Panel::Parts | Panel::Detail => [Constraint::Percentage(66), Constraint::Percentage(34)],
         Panel::Shortlist => [Constraint::Percentage(55), Constraint::Percentage(45)],
         Panel::Swap => [Constraint::Percentage(55), Constraint::Percentage(45)],
+        Panel::Trace => [Constraint::Percentage(68), Constraint::Percentage(32)],
         Panel::Library => [Constraint::Percentage(100), Constraint::Percentage(0)],
     };
     let [left, right] = Layout::horizontal(ratio).areas(body);
@@ -156,6 +160,10 @@ pub fn draw(frame: &mut Frame<'_>, app: &App, theme: Theme) {
         Panel::Swap => {
             swap_list(frame, app, theme, areas.left);
             swap_detail(frame, app, theme, areas.right);
+        }
+        Panel::Trace => {
+            trace_charts(frame, app, theme, areas.left);
+            trace_readout(frame, app, theme, areas.right);
         }
         Panel::Library => library(frame, app, theme, areas.left),
     }
@@ -1038,6 +1046,297 @@ fn swap_detail(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
     frame.render_widget(
         Paragraph::new(lines)
             .block(block)
+            .wrap(Wrap { trim: false }),
+        area,
+    );
+}
+
+/// The traces that can be drawn: the stage's own, then the candidate's.
+fn traces(app: &App) -> (Option<&crate::trace::Trace>, Option<&crate::trace::Trace>) {
+    fn ok(t: &Option<Result<crate::trace::Trace, String>>) -> Option<&crate::trace::Trace> {
+        t.as_ref().and_then(|r| r.as_ref().ok())
+    }
+    (ok(&app.trace_stage), ok(&app.trace_part))
+}
+
+fn axis_labels(low: f64, high: f64, dim: Dim) -> Vec<Line<'static>> {
+    vec![
+        Line::from(format_eng(low, dim)),
+        Line::from(format_eng((low + high) / 2.0, dim)),
+        Line::from(format_eng(high, dim)),
+    ]
+}
+
+fn trace_charts(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let (stage, part) = traces(app);
+    let Some(base) = part.or(stage) else {
+        let why = app
+            .trace_part
+            .as_ref()
+            .and_then(|r| r.as_ref().err())
+            .or_else(|| app.trace_stage.as_ref().and_then(|r| r.as_ref().err()))
+            .cloned()
+            .unwrap_or_else(|| "nothing to trace".to_string());
+        frame.render_widget(
+            Paragraph::new(clean(&why).into_owned())
+                .wrap(Wrap { trim: true })
+                .block(block("Trace".to_string(), true, theme)),
+            area,
+        );
+        return;
+    };
+    let [top, bottom] =
+        Layout::vertical([Constraint::Percentage(55), Constraint::Percentage(45)]).areas(area);
+    let width = usize::from(top.width.max(10));
+    let t_end = base.points.last().map_or(1.0, |p| p[0]).max(1e-12);
+    let cursor_t = app.trace_cursor * t_end;
+    let series = |t: Option<&crate::trace::Trace>, column: usize| -> Vec<(f64, f64)> {
+        t.map_or_else(Vec::new, |t| {
+            crate::trace::decimate(&t.points, 2 * width)
+                .iter()
+                .map(|p| (p[0], p[column]))
+                .collect()
+        })
+    };
+    let v_stage = series(stage, 1);
+    let v_part = series(part, 1);
+    let i_stage = series(stage, 2);
+    let i_part = series(part, 2);
+    let rating = part.and_then(|t| t.rating);
+    let v_max = v_stage
+        .iter()
+        .chain(&v_part)
+        .map(|p| p.1)
+        .fold(rating.map_or(0.0, |r| r.volts), f64::max)
+        .max(1e-3)
+        * 1.1;
+    let v_min = v_stage
+        .iter()
+        .chain(&v_part)
+        .map(|p| p.1)
+        .fold(0.0, f64::min);
+    let i_max = i_stage
+        .iter()
+        .chain(&i_part)
+        .map(|p| p.1)
+        .fold(0.0, f64::max)
+        .max(1e-9)
+        * 1.1;
+    let i_min = i_stage
+        .iter()
+        .chain(&i_part)
+        .map(|p| p.1)
+        .fold(0.0, f64::min);
+    let rating_line: Vec<(f64, f64)> =
+        rating.map_or_else(Vec::new, |r| vec![(0.0, r.volts), (t_end, r.volts)]);
+    let cursor_v = vec![(cursor_t, v_min), (cursor_t, v_max)];
+    let cursor_i = vec![(cursor_t, i_min), (cursor_t, i_max)];
+    let peak: Vec<(f64, f64)> = base.peak_marker().into_iter().collect();
+    let release: Vec<(f64, f64)> = base.release_marker().into_iter().collect();
+    let part_name = base.part.clone().unwrap_or_else(|| "stage".to_string());
+    let mut v_sets = vec![
+        Dataset::default()
+            .name("stage (assumed parts)")
+            .marker(Marker::Braille)
+            .graph_type(GraphType::Line)
+            .style(theme.dim())
+            .data(&v_stage),
+    ];
+    if !v_part.is_empty() {
+        v_sets.push(
+            Dataset::default()
+                .name(clean(&part_name).into_owned())
+                .marker(Marker::Braille)
+                .graph_type(GraphType::Line)
+                .style(theme.fg(Color::Cyan))
+                .data(&v_part),
+        );
+    }
+    if let Some(r) = rating {
+        v_sets.push(
+            Dataset::default()
+                .name(format!("{} {}", r.name, format_eng(r.volts, Dim::Volt)))
+                .marker(Marker::Dot)
+                .graph_type(GraphType::Line)
+                .style(theme.fg(Color::Red))
+                .data(&rating_line),
+        );
+    }
+    v_sets.push(
+        Dataset::default()
+            .name("peak ▲")
+            .marker(Marker::Block)
+            .graph_type(GraphType::Scatter)
+            .style(theme.fg(Color::Yellow))
+            .data(&peak),
+    );
+    v_sets.push(
+        Dataset::default()
+            .marker(Marker::Dot)
+            .graph_type(GraphType::Line)
+            .style(theme.dim())
+            .data(&cursor_v),
+    );
+    let v_chart = Chart::new(v_sets)
+        .block(block(
+            format!(
+                "Trace: switch voltage · {} · ←→ time, ↑↓ candidate",
+                clean(&part_name)
+            ),
+            true,
+            theme,
+        ))
+        .x_axis(
+            Axis::default()
+                .bounds([0.0, t_end])
+                .labels(axis_labels(0.0, t_end, Dim::Second)),
+        )
+        .y_axis(Axis::default().bounds([v_min, v_max]).labels(axis_labels(
+            v_min,
+            v_max,
+            Dim::Volt,
+        )));
+    frame.render_widget(v_chart, top);
+    let mut i_sets = vec![
+        Dataset::default()
+            .name("stage")
+            .marker(Marker::Braille)
+            .graph_type(GraphType::Line)
+            .style(theme.dim())
+            .data(&i_stage),
+    ];
+    if !i_part.is_empty() {
+        i_sets.push(
+            Dataset::default()
+                .name(clean(&part_name).into_owned())
+                .marker(Marker::Braille)
+                .graph_type(GraphType::Line)
+                .style(theme.fg(Color::Cyan))
+                .data(&i_part),
+        );
+    }
+    i_sets.push(
+        Dataset::default()
+            .name("release ●")
+            .marker(Marker::Block)
+            .graph_type(GraphType::Scatter)
+            .style(theme.fg(Color::Yellow))
+            .data(&release),
+    );
+    i_sets.push(
+        Dataset::default()
+            .marker(Marker::Dot)
+            .graph_type(GraphType::Line)
+            .style(theme.dim())
+            .data(&cursor_i),
+    );
+    let i_chart = Chart::new(i_sets)
+        .block(block("load current".to_string(), false, theme))
+        .x_axis(
+            Axis::default()
+                .bounds([0.0, t_end])
+                .labels(axis_labels(0.0, t_end, Dim::Second)),
+        )
+        .y_axis(
+            Axis::default()
+                .bounds([i_min, i_max])
+                .labels(axis_labels(i_min, i_max, Dim::Amp)),
+        );
+    frame.render_widget(i_chart, bottom);
+}
+
+/// The point of a trace nearest to time `t`.
+fn at_time(trace: &crate::trace::Trace, t: f64) -> Option<[f64; 3]> {
+    let i = trace.points.partition_point(|p| p[0] < t);
+    trace
+        .points
+        .get(i.min(trace.points.len().saturating_sub(1)))
+        .copied()
+}
+
+fn trace_readout(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
+    let (stage, part) = traces(app);
+    let mut lines = Vec::new();
+    let opt = |v: Option<f64>, dim: Dim| v.map_or("—".to_string(), |v| format_eng(v, dim));
+    let t_end = part
+        .or(stage)
+        .and_then(|t| t.points.last())
+        .map_or(0.0, |p| p[0]);
+    let t = app.trace_cursor * t_end;
+    lines.push(Line::from(Span::styled(
+        format!("cursor t = {}", format_eng(t, Dim::Second)),
+        Style::new().add_modifier(Modifier::BOLD),
+    )));
+    for (label, trace) in [("stage", stage), ("part", part)] {
+        let Some(trace) = trace else { continue };
+        let name = trace
+            .part
+            .clone()
+            .unwrap_or_else(|| "stage (assumed parts)".to_string());
+        lines.push(Line::from(""));
+        lines.push(Line::from(Span::styled(
+            format!("{label}: {}", clean(&name)),
+            Style::new().add_modifier(Modifier::BOLD),
+        )));
+        if let Some(p) = at_time(trace, t) {
+            lines.push(Line::from(format!(
+                "  at cursor {} · {}",
+                format_eng(p[1], Dim::Volt),
+                format_eng(p[2], Dim::Amp)
+            )));
+        }
+        lines.push(Line::from(format!(
+            "  peak {}",
+            opt(trace.peak_voltage, Dim::Volt)
+        )));
+        if let Some(r) = trace.rating {
+            let over = trace.peak_voltage.is_some_and(|p| p > r.volts);
+            lines.push(Line::from(Span::styled(
+                format!(
+                    "  {} {}{}",
+                    r.name,
+                    format_eng(r.volts, Dim::Volt),
+                    if over {
+                        " ✗ the spike crosses the rating"
+                    } else {
+                        " ✓ above the spike"
+                    }
+                ),
+                theme.fg(if over { Color::Red } else { Color::Green }),
+            )));
+        }
+        lines.push(Line::from(format!(
+            "  energy {}",
+            opt(trace.clamp_energy, Dim::Joule)
+        )));
+        lines.push(Line::from(format!(
+            "  release {}",
+            opt(trace.release_time, Dim::Second)
+        )));
+        if trace.rise_time.is_some() {
+            lines.push(Line::from(format!(
+                "  rise {} · settle {}",
+                opt(trace.rise_time, Dim::Second),
+                opt(trace.settle_time, Dim::Second)
+            )));
+        }
+        for p in &trace.problems {
+            lines.push(Line::from(Span::styled(
+                format!("  {}: {}", p.severity.name(), clean(&p.message)),
+                severity_style(theme, p.severity),
+            )));
+        }
+    }
+    if let Some(Err(e)) = &app.trace_part {
+        lines.push(Line::from(""));
+        lines.push(Line::from(Span::styled(
+            format!("part: {}", clean(e)),
+            theme.dim(),
+        )));
+    }
+    frame.render_widget(
+        Paragraph::new(lines)
+            .block(block("Readout".to_string(), false, theme))
             .wrap(Wrap { trim: false }),
         area,
     );
