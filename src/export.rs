@@ -185,16 +185,11 @@ impl Context<'_> {
     }
 }
 
-fn limiting(candidate: Option<&Candidate>) -> (String, String) {
-    match candidate.and_then(|c| c.limiting().map(|l| (c, l))) {
-        Some((_, check)) => (
-            check.need.to_string(),
-            check
-                .headroom
-                .filter(|h| h.is_finite())
-                .map_or(String::new(), |h| format!("{h:.3}")),
-        ),
-        None => (String::new(), String::new()),
+/// The need that limits a kept part, and its headroom.
+fn limiting(candidate: Option<&Candidate>) -> (&'static str, Option<f64>) {
+    match candidate.and_then(Candidate::limiting) {
+        Some(check) => (check.need, check.headroom.filter(|h| h.is_finite())),
+        None => ("", None),
     }
 }
 
@@ -227,8 +222,8 @@ pub fn to_csv(context: &Context<'_>, shortlist: &Shortlist) -> String {
                 part.stock.map_or(String::new(), |s| s.to_string()),
                 part.status.name().to_string(),
                 candidate.map_or(String::new(), |c| c.verdict.name().to_string()),
-                headroom,
-                need,
+                headroom.map_or(String::new(), |h| format!("{h:.3}")),
+                need.to_string(),
             ];
             let row: Vec<String> = cells.iter().map(|c| csv_cell(c)).collect();
             out.push_str(&row.join(","));
@@ -272,7 +267,7 @@ pub fn to_json(context: &Context<'_>, shortlist: &Shortlist) -> Value {
                         "stock": part.stock,
                         "status": part.status.name(),
                         "verdict": candidate.map(|c| c.verdict.name()),
-                        "headroom": headroom.parse::<f64>().ok(),
+                        "headroom": headroom,
                         "limiting_need": need,
                     }))
                 })

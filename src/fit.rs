@@ -331,7 +331,7 @@ pub fn evaluate_part(
     if !kind_fits_role(stage, role, part.kind) {
         return None;
     }
-    let checks = checks::for_part(stage, needs, library, role, part);
+    let checks = checks::for_part(stage, needs, role, part);
     let verdict = Verdict::of(&checks);
     // Part rules (stock, status) are not ratings: a part's headroom is over its ratings only.
     let headroom = checks

@@ -245,7 +245,7 @@ pub fn substitutes(library: &Library, original: usize, bar: Bar<'_>) -> Result<S
         let role = role_for(stage, orig.kind)?;
         swap.stage = Some(needs.stage.clone());
         swap.role = Some(role);
-        let own = fit::checks::for_part(stage, needs, library, role, orig);
+        let own = fit::checks::for_part(stage, needs, role, orig);
         swap.notes.push(format!(
             "the bar is the stage's `{}` needs; the original itself: {}",
             role.name(),
@@ -341,9 +341,7 @@ fn substitute(
             }
             checks
         }
-        Against::Stage(stage, needs, role) => {
-            fit::checks::for_part(stage, needs, library, role, part)
-        }
+        Against::Stage(stage, needs, role) => fit::checks::for_part(stage, needs, role, part),
     };
     let mut extra = Vec::new();
     let mut notes = Vec::new();

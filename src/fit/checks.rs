@@ -2,7 +2,7 @@
 //! brings itself (its own VCE(sat), RDS(on), coil resistance, photocell law).
 
 use super::{Check, CheckVerdict, Role};
-use crate::library::{Kind, Library, Part, Status};
+use crate::library::{Kind, Part, Status};
 use crate::needs::{Bound, Needs, ids};
 use crate::needs::{photocell, thermal, worst};
 use crate::stage::Stage;
@@ -143,13 +143,7 @@ fn with_note(mut check: Check, note: String) -> Check {
 
 /// Every check of `part` for `role`, in need order, then the part rules.
 #[must_use]
-pub fn for_part(
-    stage: &Stage,
-    needs: &Needs,
-    library: &Library,
-    role: Role,
-    part: &Part,
-) -> Vec<Check> {
+pub fn for_part(stage: &Stage, needs: &Needs, role: Role, part: &Part) -> Vec<Check> {
     let mut checks = Vec::with_capacity(8);
     match role {
         Role::Switch => switch(stage, needs, part, &mut checks),
@@ -158,7 +152,7 @@ pub fn for_part(
         Role::Relay => relay(stage, needs, part, &mut checks),
         Role::Sensor => sensor(stage, needs, part, &mut checks),
     }
-    part_rules(stage, library, part, &mut checks);
+    part_rules(stage, part, &mut checks);
     checks
 }
 
@@ -655,7 +649,7 @@ fn is_cadmium_cell(part: &Part) -> bool {
         && !text.contains("cd-free")
 }
 
-fn part_rules(stage: &Stage, library: &Library, part: &Part, checks: &mut Vec<Check>) {
+fn part_rules(stage: &Stage, part: &Part, checks: &mut Vec<Check>) {
     let rule = |need: &'static str,
                 rating_name: &'static str,
                 verdict: CheckVerdict,
@@ -670,7 +664,6 @@ fn part_rules(stage: &Stage, library: &Library, part: &Part, checks: &mut Vec<Ch
         headroom: None,
         note,
     };
-    let _ = library;
     let status = match part.status {
         Status::Obsolete if !stage.rules.allow_obsolete => rule(
             ids_part::STATUS,

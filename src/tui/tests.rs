@@ -371,5 +371,5 @@ fn the_trace_follows_the_candidate_and_shows_the_rating() {
         screen.contains("VCEO") && screen.contains("peak"),
         "{screen}"
     );
-    insta::assert_snapshot!("panel_trace", screen);
+    insta::assert_snapshot!("trace_after_moves", screen);
 }
