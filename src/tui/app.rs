@@ -89,6 +89,9 @@ pub struct Editor {
     pub field: usize,
     /// What has been typed.
     pub buffer: String,
+    /// Why the stage would refuse what has been typed so far (checked at every key press; the
+    /// last good value stays in force until Enter applies a good one).
+    pub problem: Option<String>,
 }
 
 /// The fuzzy search of the Parts panel.
@@ -618,6 +621,7 @@ impl App {
         self.editor = Some(Editor {
             field: self.stage_cursor,
             buffer: self.doc.get(field).unwrap_or_default(),
+            problem: None,
         });
     }
 
@@ -686,18 +690,25 @@ impl App {
             return;
         };
         match action {
-            Action::Type(c) => editor.buffer.push(c),
-            Action::Backspace => {
-                editor.buffer.pop();
+            Action::Type(_) | Action::Backspace => {
+                if let Action::Type(c) = action {
+                    editor.buffer.push(c);
+                } else {
+                    editor.buffer.pop();
+                }
+                // Read the entry as the stage would, on a copy, so the field says at once why
+                // it would be refused.
+                let field = &FIELDS[editor.field.min(FIELDS.len() - 1)];
+                let mut trial = self.doc.clone();
+                editor.problem = trial.set(field, &editor.buffer).err();
             }
             Action::Back => {
                 self.editor = None;
             }
             Action::Enter => {
-                let editor = self.editor.take().unwrap_or(Editor {
-                    field: 0,
-                    buffer: String::new(),
-                });
+                let Some(editor) = self.editor.take() else {
+                    return;
+                };
                 let field = &FIELDS[editor.field.min(FIELDS.len() - 1)];
                 match self.doc.set(field, &editor.buffer) {
                     Ok(()) => self.changed(),

@@ -113,6 +113,9 @@ fn an_invalid_entry_keeps_the_old_value_and_says_why() {
     for c in "12 A".chars() {
         app.update(Action::Type(c));
     }
+    // Said while typing, before Enter.
+    let live = app.editor.as_ref().and_then(|e| e.problem.clone()).unwrap();
+    assert!(live.contains("12 A"), "{live}");
     app.update(Action::Enter);
     assert_eq!(app.doc.stage.supply.volts.value(), 12.0);
     let (at, message) = app.field_error.clone().unwrap();

@@ -238,8 +238,14 @@ fn stage(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect, focused: bo
             Span::raw(" "),
             value,
         ];
-        if let Some((at, error)) = &app.field_error
+        if let Some(problem) = editing.and_then(|e| e.problem.as_ref()) {
+            spans.push(Span::styled(
+                format!("  ✗ {}", clean(problem)),
+                theme.fg(Color::Red),
+            ));
+        } else if let Some((at, error)) = &app.field_error
             && *at == i
+            && editing.is_none()
         {
             spans.push(Span::styled(
                 format!("  ✗ {}", clean(error)),
