@@ -14,7 +14,7 @@
 //!   told), which sets the unclamped ring when nothing breaks down;
 //! - the supply is at the top of its tolerance, as the needs take it.
 //!
-//! The solver ([`solver`]) is implicit (variable-step BDF2) with error control, so the
+//! The solver (`trace/solver.rs`) is implicit (variable-step BDF2) with error control, so the
 //! nanosecond edges and the millisecond decays of one trace cost a few thousand steps.
 //! [`report`] writes a trace as JSON, CSV and text; [`svg`] draws it for a review.
 
@@ -243,6 +243,11 @@ pub fn simulate_with(
     }
     let role = part.map(|p| role_of(stage, p)).transpose()?;
     let built = build(stage, needs, library, part, role, stray)?;
+    if !(built.end.is_finite() && built.end > 0.0 && built.cap.is_finite()) {
+        return Err(TraceError::Missing(
+            "the load's figures give no time scale to trace over (a value out of range?); check [load]".to_string(),
+        ));
+    }
     let mut trace = run(&built, options)?;
     trace.stage = stage.title.clone();
     trace.part = part.map(|p| p.number.to_string());
@@ -260,17 +265,22 @@ fn run(built: &Built, options: &Options) -> Result<Trace, TraceError> {
     // The current the load carries when on: the scale of the load state's tolerance and of
     // the node's fastest edge.
     let i_scale = match c.load {
-        LoadModel::Coil { r, .. } | LoadModel::Resistive { r } => vs / (r + c.r_on),
-        LoadModel::Rc { r, .. } => vs / (r + c.r_on),
+        LoadModel::Coil { r, .. } | LoadModel::Resistive { r } | LoadModel::Rc { r, .. } => {
+            vs / (r + c.r_on)
+        }
+        // An LED whose drop exceeds the supply carries nothing; its scale is still the supply's.
         LoadModel::Led { r, vf } => ((vs - vf) / (r + c.r_on)).max(vs / r * 1e-3),
     };
     let q_scale = match c.load {
         LoadModel::Coil { .. } => i_scale,
         _ => vs,
     };
-    // The node swings the supply in C Vs / I: the first step after an edge is a thousandth.
+    // The node swings the supply in C Vs / I: the first step after an edge is a thousandth,
+    // but no less than the clock can resolve at the end of the run (64 units in the last
+    // place: an edge faster than that is stepped over).
     let edge = c.stray * vs / i_scale.max(1e-12);
-    let h_start = (1e-3 * edge).min(1e-9 * window);
+    let resolution = 64.0 * f64::EPSILON * built.cap.max(window);
+    let h_start = (1e-3 * edge).min(1e-9 * window).max(resolution);
     let tol = Tolerance {
         rtol: 1e-4,
         atol_v: 1e-5 * vs,
@@ -278,7 +288,7 @@ fn run(built: &Built, options: &Options) -> Result<Trace, TraceError> {
     };
     let limits = Limits {
         h_max: window / 500.0,
-        h_min: 1e-6 * h_start,
+        h_min: (1e-6 * h_start).max(resolution),
         h_start,
         max_steps: options.max_steps,
     };

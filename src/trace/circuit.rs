@@ -21,7 +21,7 @@ use super::{
 use crate::fit::{self, Role};
 use crate::library::{Kind, Library, Part, Relay};
 use crate::needs::{Needs, Problem, Severity, ids};
-use crate::stage::{ClampType, LoadType, Stage};
+use crate::stage::{ClampType, DriveSource, LoadType, Stage};
 use crate::units::{Dim, format_eng, format_number};
 
 /// Conductance of an open switch and of a blocked LED: 1 pS, the smallest conductance SPICE
@@ -598,6 +598,16 @@ pub fn build(
         "stray capacitance {} from the switch node to ground",
         format_eng(stray, Dim::Farad)
     ));
+    if stage.switch.kind.is_high_side() {
+        model.push(
+            "a high-side switch, traced as its low-side mirror: the same voltage across the switch and the same load current".to_string(),
+        );
+    }
+    if stage.drive.source == DriveSource::Photocell {
+        model.push(
+            "the switch is taken fully on and fully off: a photocell drive moves slowly, and this is the edge once it has".to_string(),
+        );
+    }
 
     let mut circuit = Circuit {
         vs,
@@ -639,7 +649,9 @@ pub fn build(
                 // A rating below the supply: the switch never blocks; show a few τ.
                 5.0 * tau
             };
-            let window = window.max(4.0 * ring);
+            // At least four periods of the ring, and, when the load resistance against the
+            // stray capacitance is slower than the coil (an overdamped node), four of that.
+            let window = window.max(4.0 * ring).max(4.0 * r * stray);
             let t_off = window / 9.0;
             let release = match release_v {
                 Some(v) => Release::Current(v / r),
@@ -650,7 +662,7 @@ pub fn build(
                 start_on: true,
                 events: vec![(t_off, false)],
                 end: t_off + window,
-                cap: t_off + 60.0 * tau + 10.0 * ring,
+                cap: t_off + 60.0 * tau.max(r * stray) + 10.0 * ring,
                 release,
                 model,
                 problems,

@@ -224,7 +224,10 @@ impl<'a, N: Network> Solver<'a, N> {
                     if landing {
                         point.t = target;
                     }
-                    if err > 1.0 {
+                    // At the smallest step the error control gives way: an edge faster than
+                    // the clock can resolve at this time is stepped over, which the
+                    // L-stable start (backward Euler) does without ringing.
+                    if err > 1.0 && h > self.limits.h_min {
                         self.reject(h, err, order)?;
                         continue;
                     }
@@ -235,11 +238,13 @@ impl<'a, N: Network> Solver<'a, N> {
         }
     }
 
+    /// A failed step: the next try is smaller, down to the smallest step; a step that fails
+    /// at the smallest is an error.
     fn reject(&mut self, h: f64, err: f64, order: i32) -> Result<(), SolverError> {
         self.rejected += 1;
         let shrink = (0.9 * err.powf(-1.0 / f64::from(order + 1))).clamp(0.1, 0.5);
-        self.h = h * shrink;
-        if self.h < self.limits.h_min {
+        self.h = (h * shrink).max(self.limits.h_min);
+        if h <= self.limits.h_min {
             return Err(SolverError::StepTooSmall {
                 t: self.last().t,
                 h: self.limits.h_min,

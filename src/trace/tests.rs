@@ -496,15 +496,17 @@ fn svg_is_a_labelled_plot() {
     assert!(svg.contains("voltage across the switch (V)"));
 }
 
+/// Stages many decades apart — 5 V to 400 V, 1 Ω to 100 kΩ coils of 1 µH to 10 H, every clamp,
+/// 1 pF to 10 nF stray — all finish, in time order, with finite figures, the peak at least the
+/// supply and the release found: no figures a user can type make the solver give up.
 #[test]
-fn sweep_tmp() {
+fn stages_many_decades_apart_all_finish() {
     let library = Library::new();
-    let mut worst = 0;
-    for &vs in &[0.5, 5.0, 48.0, 400.0] {
-        for &r in &[0.1, 10.0, 1e3, 1e5] {
-            for &l in &[1e-6, 1e-3, 0.1, 10.0] {
+    for &vs in &[5.0, 400.0] {
+        for &r in &[1.0, 1e5] {
+            for &l in &[1e-6, 10.0] {
                 for clamp in [ClampType::Diode, ClampType::Zener, ClampType::None] {
-                    for &stray in &[1e-12, 100e-12, 10e-9] {
+                    for &stray in &[1e-12, 10e-9] {
                         let mut load = Load::of(LoadType::Inductive);
                         load.resistance = Some(Ohms(r));
                         load.inductance = Some(Henries(l));
@@ -514,27 +516,23 @@ fn sweep_tmp() {
                             kind: clamp,
                             zener_volts: Some(Volts(24.0)),
                         };
-                        let needs = needs::compute(&stage, None);
-                        let o = Options {
+                        let options = Options {
                             stray: Farads(stray),
                             ..Options::default()
                         };
-                        match simulate_with(&stage, &needs, &library, None, &o) {
-                            Ok(t) => {
-                                worst = worst.max(t.steps + t.rejected);
-                                if t.steps + t.rejected > 20000 || t.release_time.is_none() {
-                                    eprintln!(
-                                        "{vs} {r} {l} {clamp:?} {stray}: steps {} rej {} release {:?} peak {:?}",
-                                        t.steps, t.rejected, t.release_time, t.peak_voltage
-                                    );
-                                }
-                            }
-                            Err(e) => eprintln!("{vs} {r} {l} {clamp:?} {stray}: {e}"),
-                        }
+                        let case = format!("{vs} V, {r} Ω, {l} H, {clamp:?}, {stray} F");
+                        let trace = trace_of(&stage, &library, None, &options);
+                        assert!(trace.points.windows(2).all(|w| w[0][0] < w[1][0]), "{case}");
+                        assert!(
+                            trace.points.iter().flatten().all(|x| x.is_finite()),
+                            "{case}"
+                        );
+                        let peak = trace.peak_voltage.unwrap_or(f64::NAN);
+                        assert!(peak >= 0.95 * vs, "{case}: peak {peak}");
+                        assert!(trace.release_time.is_some(), "{case}");
                     }
                 }
             }
         }
     }
-    eprintln!("worst {worst}");
 }
