@@ -818,8 +818,13 @@ impl App {
         files
     }
 
-    /// Writes the shortlist to `path` (format from the extension).
+    /// Writes the shortlist to `path` (format from the extension); from the Trace panel, the
+    /// trace shown (`.svg` plot, `.csv` points or `.json` figures).
     pub fn export(&mut self, path: &std::path::Path, overwrite: bool) {
+        if self.panel == Panel::Trace {
+            self.export_trace(path, overwrite);
+            return;
+        }
         let context = Context {
             stage: &self.doc.stage,
             needs: &self.needs,
@@ -839,6 +844,45 @@ impl App {
                 self.shortlist.len(),
                 path.display()
             ),
+            Err(e) => format!("not exported: {e}"),
+        });
+    }
+
+    fn export_trace(&mut self, path: &std::path::Path, overwrite: bool) {
+        let trace = self
+            .trace_part
+            .as_ref()
+            .and_then(|r| r.as_ref().ok())
+            .or_else(|| self.trace_stage.as_ref().and_then(|r| r.as_ref().ok()));
+        let Some(trace) = trace else {
+            self.message = Some("nothing to export: this stage has no trace".to_string());
+            return;
+        };
+        let extension = path
+            .extension()
+            .and_then(|e| e.to_str())
+            .map(str::to_ascii_lowercase);
+        let text = match extension.as_deref() {
+            Some("svg") => crate::trace::svg::to_svg(trace),
+            Some("csv") => crate::trace::report::to_csv(trace),
+            Some("json") => crate::trace::report::to_json_string(trace),
+            _ => {
+                self.message = Some(format!(
+                    "not exported: name the file .svg, .csv or .json ({})",
+                    path.display()
+                ));
+                return;
+            }
+        };
+        if is_library_file(path, &self.protected()) {
+            self.message = Some(format!(
+                "not exported: {} is a library file",
+                path.display()
+            ));
+            return;
+        }
+        self.message = Some(match write_atomic(path, text.as_bytes(), overwrite) {
+            Ok(()) => format!("exported the trace to {}", path.display()),
             Err(e) => format!("not exported: {e}"),
         });
     }

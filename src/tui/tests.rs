@@ -376,3 +376,18 @@ fn the_trace_follows_the_candidate_and_shows_the_rating() {
     );
     insta::assert_snapshot!("trace_after_moves", screen);
 }
+
+#[test]
+fn a_trace_exports_as_svg_from_its_panel() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("kick.svg");
+    let mut app = demo_app();
+    app.update(Action::Panel(6));
+    app.export(&path, false);
+    let svg = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{e}: {:?}", app.message));
+    assert!(
+        svg.starts_with("<svg") || svg.contains("<svg"),
+        "{}",
+        &svg[..80.min(svg.len())]
+    );
+}
