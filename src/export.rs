@@ -176,12 +176,22 @@ pub struct Context<'a> {
 }
 
 impl Context<'_> {
-    fn candidate(&self, role: Role, part: usize) -> Option<&Candidate> {
-        self.fit
+    /// The kept part's candidate with its checks (a large library's ranking keeps them only
+    /// for its first places).
+    fn candidate(&self, role: Role, part: usize) -> Option<Candidate> {
+        let found = self
+            .fit
             .role(role)?
             .candidates
             .iter()
-            .find(|c| c.part == part)
+            .find(|c| c.part == part)?;
+        Some(crate::fit::with_checks(
+            self.stage,
+            self.needs,
+            self.library,
+            role,
+            found,
+        ))
     }
 }
 
@@ -205,7 +215,7 @@ pub fn to_csv(context: &Context<'_>, shortlist: &Shortlist) -> String {
                 continue;
             };
             let candidate = context.candidate(*role, index);
-            let (need, headroom) = limiting(candidate);
+            let (need, headroom) = limiting(candidate.as_ref());
             let cells = [
                 role.name().to_string(),
                 if i == 0 {
@@ -257,7 +267,7 @@ pub fn to_json(context: &Context<'_>, shortlist: &Shortlist) -> Value {
                 .filter_map(|&index| {
                     let part = context.library.parts.get(index)?;
                     let candidate = context.candidate(*role, index);
-                    let (need, headroom) = limiting(candidate);
+                    let (need, headroom) = limiting(candidate.as_ref());
                     Some(json!({
                         "part": part.number,
                         "kind": part.kind.name(),
@@ -342,8 +352,8 @@ pub fn to_markdown(context: &Context<'_>, shortlist: &Shortlist) -> String {
                     .map_or("—".to_string(), |p| format!("{p:.2}")),
                 part.stock.map_or("—".to_string(), |s| s.to_string()),
                 part.status.name(),
-                candidate.map_or("—", |c| c.verdict.name()),
-                md(&candidate.map(reason).unwrap_or_default()),
+                candidate.as_ref().map_or("—", |c| c.verdict.name()),
+                md(&candidate.as_ref().map(reason).unwrap_or_default()),
             ));
         }
         out.push('\n');

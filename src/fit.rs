@@ -318,7 +318,16 @@ impl Fit {
     }
 }
 
-/// Evaluates one part for one role; `None` when its kind cannot fill the role.
+/// Libraries up to this many parts keep every candidate's checks with their notes.
+pub const FULL_DETAIL_PARTS: usize = 20_000;
+
+/// In larger libraries, the candidates ranked up to this place in each role keep their checks
+/// with notes; the others keep their verdict, score and headroom only (a ranking of a million
+/// parts must not hold eight million checks), and [`evaluate_part`] gives any part's checks.
+pub const DETAIL_RANKS: usize = 500;
+
+/// Evaluates one part for one role, every check with its notes; `None` when its kind cannot
+/// fill the role.
 #[must_use]
 pub fn evaluate_part(
     stage: &Stage,
@@ -327,11 +336,63 @@ pub fn evaluate_part(
     role: Role,
     index: usize,
 ) -> Option<Candidate> {
+    candidate(stage, needs, library, role, index, true)
+}
+
+/// A candidate's checks again, with notes, when the ranking kept only its verdict.
+#[must_use]
+pub fn with_checks(
+    stage: &Stage,
+    needs: &Needs,
+    library: &Library,
+    role: Role,
+    candidate: &Candidate,
+) -> Candidate {
+    if !candidate.checks.is_empty() {
+        return candidate.clone();
+    }
+    let mut full = evaluate_part(stage, needs, library, role, candidate.part)
+        .unwrap_or_else(|| candidate.clone());
+    full.rank = candidate.rank;
+    full
+}
+
+/// Gives every candidate that will be shown (the first `limit` of each role, or all) its
+/// checks, for outputs that list them.
+pub fn fill_checks(
+    fit: &mut Fit,
+    stage: &Stage,
+    needs: &Needs,
+    library: &Library,
+    limit: Option<usize>,
+) {
+    for role in &mut fit.roles {
+        let name = role.role;
+        for c in role.candidates.iter_mut().take(limit.unwrap_or(usize::MAX)) {
+            if c.checks.is_empty() {
+                *c = with_checks(stage, needs, library, name, c);
+            }
+        }
+    }
+}
+
+fn candidate(
+    stage: &Stage,
+    needs: &Needs,
+    library: &Library,
+    role: Role,
+    index: usize,
+    detail: bool,
+) -> Option<Candidate> {
     let part: &Part = library.parts.get(index)?;
     if !kind_fits_role(stage, role, part.kind) {
         return None;
     }
-    let checks = checks::for_part(stage, needs, role, part);
+    let checks = if detail {
+        checks::for_part(stage, needs, role, part)
+    } else {
+        checks::for_part_brief(stage, needs, role, part)
+    };
     let verdict = Verdict::of(&checks);
     // Part rules (stock, status) are not ratings: a part's headroom is over its ratings only.
     let headroom = checks
@@ -350,30 +411,83 @@ pub fn evaluate_part(
         rank: 0,
     };
     candidate.score = score(part, &candidate);
+    if !detail {
+        candidate.checks = Vec::new();
+    }
     Some(candidate)
 }
 
+/// Every candidate of `role`, evaluated on all cores for a large library.
+fn candidates(
+    stage: &Stage,
+    needs: &Needs,
+    library: &Library,
+    role: Role,
+    detail: bool,
+) -> Vec<Candidate> {
+    let n = library.parts.len();
+    let threads = std::thread::available_parallelism()
+        .map_or(1, |t| t.get())
+        .min(8);
+    let scan = |range: std::ops::Range<usize>| -> Vec<Candidate> {
+        range
+            .filter_map(|i| candidate(stage, needs, library, role, i, detail))
+            .collect()
+    };
+    if threads < 2 || n < 50_000 {
+        return scan(0..n);
+    }
+    let chunk = n.div_ceil(threads);
+    std::thread::scope(|scope| {
+        let handles: Vec<_> = (0..threads)
+            .map(|t| {
+                let range = (t * chunk).min(n)..((t + 1) * chunk).min(n);
+                scope.spawn(move || scan(range))
+            })
+            .collect();
+        let mut all = Vec::new();
+        for handle in handles {
+            // A scan thread only evaluates parts and cannot panic on library data; should
+            // one fail anyway, its share is evaluated again on this thread.
+            match handle.join() {
+                Ok(part) => all.extend(part),
+                Err(_) => return scan(0..n),
+            }
+        }
+        all
+    })
+}
+
 /// Evaluates every part of the library for every role of the stage and ranks each role by
-/// `sort`.
+/// `sort`. In libraries over [`FULL_DETAIL_PARTS`] parts only the first [`DETAIL_RANKS`] of each
+/// role keep their checks.
 #[must_use]
 pub fn evaluate(stage: &Stage, needs: &Needs, library: &Library, sort: SortKey) -> Fit {
+    let detail = library.parts.len() <= FULL_DETAIL_PARTS;
     let roles = roles(stage)
         .into_iter()
         .map(|role| {
-            let mut candidates: Vec<Candidate> = (0..library.parts.len())
-                .filter_map(|i| evaluate_part(stage, needs, library, role, i))
-                .collect();
+            let mut candidates = candidates(stage, needs, library, role, detail);
             rank::rank(&mut candidates, library, sort);
+            if !detail {
+                for c in candidates.iter_mut().take(DETAIL_RANKS) {
+                    *c = with_checks(stage, needs, library, role, c);
+                }
+            }
             // The needs this role's parts are held against, in the needs' order.
+            let mut seen: Vec<&'static str> = Vec::new();
+            for c in &candidates {
+                for k in &c.checks {
+                    if !seen.contains(&k.need) {
+                        seen.push(k.need);
+                    }
+                }
+            }
             let needs_checked = needs
                 .needs
                 .iter()
                 .map(|n| n.id)
-                .filter(|id| {
-                    candidates
-                        .iter()
-                        .any(|c| c.checks.iter().any(|k| k.need == *id))
-                })
+                .filter(|id| seen.contains(id))
                 .collect();
             RoleFit {
                 role,

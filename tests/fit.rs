@@ -226,3 +226,40 @@ mod properties {
         }
     }
 }
+
+/// A large library keeps checks for its first places only; every other candidate's verdict,
+/// headroom and score are those of the full evaluation.
+#[test]
+fn large_libraries_rank_without_holding_every_check() {
+    let mut text = Vec::new();
+    loadfit::synthetic::write_library(&mut text, 30_000, 3).unwrap();
+    let mut library = Library::new();
+    library.add_bytes("big.csv", &text).unwrap();
+    assert!(library.parts.len() > fit::FULL_DETAIL_PARTS);
+    let stage = Stage::read(&fixture("resistive-npn.toml")).unwrap();
+    let needs = needs::compute(&stage, Some(&library));
+    let result = fit::evaluate(&stage, &needs, &library, SortKey::Score);
+    let role = result.role(Role::Switch).unwrap();
+    assert!(role.candidates.len() > fit::DETAIL_RANKS);
+    assert!(
+        role.candidates[..fit::DETAIL_RANKS]
+            .iter()
+            .all(|c| !c.checks.is_empty())
+    );
+    assert!(
+        role.candidates[fit::DETAIL_RANKS..]
+            .iter()
+            .all(|c| c.checks.is_empty())
+    );
+    for c in role.candidates.iter().step_by(97) {
+        let full = fit::evaluate_part(&stage, &needs, &library, Role::Switch, c.part).unwrap();
+        assert_eq!(
+            (full.verdict, full.headroom, full.score),
+            (c.verdict, c.headroom, c.score)
+        );
+        let filled = fit::with_checks(&stage, &needs, &library, Role::Switch, c);
+        assert_eq!(filled.checks, full.checks);
+        assert_eq!(filled.rank, c.rank);
+    }
+    assert!(role.needs.contains(&"switch.voltage"));
+}

@@ -69,6 +69,11 @@ pub fn run(args: &Args, parts: &[PathBuf], out: &mut Output) -> Result<u8, CliEr
             )));
         }
     }
+    let shown = match args.format {
+        Format::Text => args.limit.or(Some(20)),
+        _ => args.limit,
+    };
+    fit::fill_checks(&mut result, &stage, &needs, &library, shown);
     match args.format {
         Format::Text => {
             for line in

@@ -80,7 +80,7 @@ fn compare(
         return check;
     };
     let Some(value) = rating else {
-        check.note = Cow::Owned(format!("{rating_name} not given in the library"));
+        check.note = Cow::Borrowed("not given in the library");
         return check;
     };
     let headroom = match bound {
@@ -132,6 +132,32 @@ fn signed_percent(fraction: f64) -> String {
     format!("{:+.1} %", fraction * 100.0)
 }
 
+/// The checks of one part as they are made, and whether their notes are written: notes cost
+/// formatting, and a million-part ranking needs only verdicts and headrooms.
+pub(crate) struct Out {
+    pub(crate) checks: Vec<Check>,
+    detail: bool,
+}
+
+impl Out {
+    fn push(&mut self, check: Check) {
+        self.checks.push(check);
+    }
+
+    fn last_mut(&mut self) -> Option<&mut Check> {
+        self.checks.last_mut()
+    }
+
+    /// The check with a note added, the note written only when detail is asked for.
+    fn note(&self, check: Check, note: impl FnOnce() -> String) -> Check {
+        if self.detail {
+            with_note(check, note())
+        } else {
+            check
+        }
+    }
+}
+
 fn with_note(mut check: Check, note: String) -> Check {
     if check.note.is_empty() {
         check.note = Cow::Owned(note);
@@ -144,16 +170,31 @@ fn with_note(mut check: Check, note: String) -> Check {
 /// Every check of `part` for `role`, in need order, then the part rules.
 #[must_use]
 pub fn for_part(stage: &Stage, needs: &Needs, role: Role, part: &Part) -> Vec<Check> {
-    let mut checks = Vec::with_capacity(8);
+    collect(stage, needs, role, part, true)
+}
+
+/// As [`for_part`] without the notes: the same verdicts and headrooms, for ranking large
+/// libraries (a part's notes are written again when it is shown).
+#[must_use]
+pub fn for_part_brief(stage: &Stage, needs: &Needs, role: Role, part: &Part) -> Vec<Check> {
+    collect(stage, needs, role, part, false)
+}
+
+fn collect(stage: &Stage, needs: &Needs, role: Role, part: &Part, detail: bool) -> Vec<Check> {
+    let mut out = Out {
+        checks: Vec::with_capacity(8),
+        detail,
+    };
+    let checks = &mut out;
     match role {
-        Role::Switch => switch(stage, needs, part, &mut checks),
-        Role::Clamp => clamp(needs, part, &mut checks),
-        Role::Zener => zener(needs, part, &mut checks),
-        Role::Relay => relay(stage, needs, part, &mut checks),
-        Role::Sensor => sensor(stage, needs, part, &mut checks),
+        Role::Switch => switch(stage, needs, part, checks),
+        Role::Clamp => clamp(needs, part, checks),
+        Role::Zener => zener(needs, part, checks),
+        Role::Relay => relay(stage, needs, part, checks),
+        Role::Sensor => sensor(stage, needs, part, checks),
     }
-    part_rules(stage, part, &mut checks);
-    checks
+    part_rules(stage, part, checks);
+    out.checks
 }
 
 /// PD derated at the ambient with the part's TJmax (150 °C when not given): the derating of
@@ -177,8 +218,8 @@ fn power_checks(
     pd: Option<f64>,
     tj_max: Option<f64>,
     rth_ja: Option<f64>,
-    how: String,
-    checks: &mut Vec<Check>,
+    how: &dyn Fn() -> String,
+    checks: &mut Out,
 ) {
     let required = dissipation.map(|p| p / stage.rules.power_derating);
     let derated = pd.map(|pd| derated(pd, tj_max, ambient));
@@ -190,10 +231,10 @@ fn power_checks(
         Dim::Watt,
     );
     if let (Some(pd), Some(p)) = (pd, dissipation) {
-        check = with_note(
-            check,
+        check = checks.note(check, || {
             format!(
-                "{how} = {}; pd {} derated to {} at {}{}",
+                "{} = {}; pd {} derated to {} at {}{}",
+                how(),
                 format_eng(p, Dim::Watt),
                 format_eng(pd, Dim::Watt),
                 format_eng(derated.unwrap_or(pd), Dim::Watt),
@@ -203,8 +244,8 @@ fn power_checks(
                 } else {
                     ""
                 }
-            ),
-        );
+            )
+        });
     }
     checks.push(check);
     if let (Some(rth), Some(p)) = (rth_ja, dissipation) {
@@ -223,20 +264,19 @@ fn power_checks(
         if rise > 0.0 {
             check.headroom = Some((limit - ambient) / rise);
         }
-        checks.push(with_note(
-            check,
+        checks.push(checks.note(check, || {
             format!(
                 "TJ = Ta + P·RthJA = {} + {} × {:.0} K/W = {}",
                 format_eng(ambient, Dim::Celsius),
                 format_eng(p, Dim::Watt),
                 rth,
                 format_eng(tj, Dim::Celsius)
-            ),
-        ));
+            )
+        }));
     }
 }
 
-fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
     let il = needs.value(ids::LOAD_CURRENT);
     let worst_case = needs.is_worst_case();
     let ambient = worst::thermal_ambient(stage, worst_case).value();
@@ -266,9 +306,7 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
             if let (Some(at), Some(il)) = (b.hfe_at_ic.get(), il)
                 && at < HFE_CURRENT_FRACTION * il
             {
-                gain = with_note(
-                    gain,
-                    format!(
+                gain = checks.note(gain, || format!(
                         "warning: hFE is given at {}, well below the {} load; gain falls at high current: check the curve",
                         format_eng(at, Dim::Amp),
                         format_eng(il, Dim::Amp)
@@ -292,13 +330,15 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
                 (base_current(stage, needs), stage.assume.vbe_on.value())
             };
             let p = vce_sat * il + vbe * base;
-            let how = format!(
-                "P = VCE(sat)·IL + VBE·IB = {} × {} + {} × {}",
-                format_eng(vce_sat, Dim::Volt),
-                format_eng(il, Dim::Amp),
-                format_eng(vbe, Dim::Volt),
-                format_eng(base, Dim::Amp)
-            );
+            let how = || {
+                format!(
+                    "P = VCE(sat)·IL + VBE·IB = {} × {} + {} × {}",
+                    format_eng(vce_sat, Dim::Volt),
+                    format_eng(il, Dim::Amp),
+                    format_eng(vbe, Dim::Volt),
+                    format_eng(base, Dim::Amp)
+                )
+            };
             power_checks(
                 stage,
                 ambient,
@@ -306,7 +346,7 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
                 b.pd.get(),
                 b.tj_max.get(),
                 b.rth_ja.get(),
-                how,
+                &how,
                 checks,
             );
         }
@@ -334,10 +374,9 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
                 Dim::Volt,
             );
             if gate.verdict == CheckVerdict::Short {
-                gate = with_note(
-                    gate,
-                    "RDS(on) is not specified at a gate voltage the drive reaches".to_string(),
-                );
+                gate = checks.note(gate, || {
+                    "RDS(on) is not specified at a gate voltage the drive reaches".to_string()
+                });
             }
             checks.push(gate);
         }
@@ -364,13 +403,15 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
                 .rds_on
                 .get()
                 .map(|r| thermal::mosfet_dissipation(Amps(il), Ohms(r)).value.value());
-            let how = format!(
-                "P = IL²·RDS(on)·1.5 (hot) = {}² × {} × 1.5",
-                format_eng(il, Dim::Amp),
-                m.rds_on
-                    .get()
-                    .map_or("?".to_string(), |r| format_eng(r, Dim::Ohm))
-            );
+            let how = || {
+                format!(
+                    "P = IL²·RDS(on)·1.5 (hot) = {}² × {} × 1.5",
+                    format_eng(il, Dim::Amp),
+                    m.rds_on
+                        .get()
+                        .map_or("?".to_string(), |r| format_eng(r, Dim::Ohm))
+                )
+            };
             if p.is_none() {
                 let mut check =
                     at_least(ids::SWITCH_POWER, "pd derated", None, Some(0.0), Dim::Watt);
@@ -384,7 +425,7 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
                     m.pd.get(),
                     m.tj_max.get(),
                     m.rth_ja.get(),
-                    how,
+                    &how,
                     checks,
                 );
             }
@@ -405,7 +446,7 @@ fn base_current(stage: &Stage, needs: &Needs) -> f64 {
         .max(0.0)
 }
 
-fn clamp(needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+fn clamp(needs: &Needs, part: &Part, checks: &mut Out) {
     let Some(d) = part.diode() else { return };
     checks.push(at_least(
         ids::CLAMP_VOLTAGE,
@@ -423,7 +464,7 @@ fn clamp(needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
     ));
 }
 
-fn zener(needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+fn zener(needs: &Needs, part: &Part, checks: &mut Out) {
     let Some(d) = part.diode() else { return };
     checks.push(within(
         ids::ZENER_VOLTAGE,
@@ -442,7 +483,7 @@ pub fn own_coil_current(stage: &Stage, part: &Part) -> Option<f64> {
     Some((stage.supply.max().value() - stage.v_sat().value()) / r)
 }
 
-fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
     let Some(r) = part.relay() else { return };
     // Worst case: the part's own coil taken cold, at the corner of the stage's coil current.
     let cold = worst::coil_resistance_factor(stage, needs.is_worst_case());
@@ -455,8 +496,7 @@ fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
         Dim::Amp,
     );
     if coil.is_some() {
-        coil_check = with_note(
-            coil_check,
+        coil_check = checks.note(coil_check, || {
             if needs.is_worst_case() {
                 format!(
                     "(Vs_max − V_sat) / (coil_r × {cold:.4}) = ({} − {}) / ({} cold at temperature_min)",
@@ -471,8 +511,8 @@ fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
                     format_eng(stage.v_sat().value(), Dim::Volt),
                     format_eng(r.coil_r.get().unwrap_or(0.0), Dim::Ohm)
                 )
-            },
-        );
+            }
+        });
     } else {
         coil_check.note = Cow::Borrowed("coil_r not given: the coil current is unknown");
     }
@@ -569,7 +609,7 @@ fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
     }
 }
 
-fn sensor(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
+fn sensor(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
     let Some(p) = part.photocell() else { return };
     checks.push(at_least(
         ids::SENSOR_VOLTAGE,
@@ -625,13 +665,12 @@ fn sensor(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Vec<Check>) {
                 "r_10lux or gamma not given: the part's own switching level is unknown",
             );
         } else {
-            check = with_note(
-                check,
+            check = checks.note(check, || {
                 format!(
                     "this cell switches at {} with the stage's fixed resistor",
                     format_eng(own.unwrap_or(0.0), Dim::Lux)
-                ),
-            );
+                )
+            });
         }
         checks.push(check);
     }
@@ -649,7 +688,7 @@ fn is_cadmium_cell(part: &Part) -> bool {
         && !text.contains("cd-free")
 }
 
-fn part_rules(stage: &Stage, part: &Part, checks: &mut Vec<Check>) {
+fn part_rules(stage: &Stage, part: &Part, checks: &mut Out) {
     let rule = |need: &'static str,
                 rating_name: &'static str,
                 verdict: CheckVerdict,

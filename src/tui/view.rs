@@ -583,16 +583,27 @@ fn detail(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect, focused: b
         app.shortlist_rows()
             .get(app.shortlist_cursor)
             .and_then(|&(role, part)| {
-                app.fit
+                let c = app
+                    .fit
                     .role(role)?
                     .candidates
                     .iter()
-                    .find(|c| c.part == part)
+                    .find(|c| c.part == part)?;
+                Some((role, c))
             })
     } else {
-        app.selected()
+        app.fit
+            .roles
+            .get(app.role)
+            .map(|r| r.role)
+            .zip(app.selected())
     };
-    let Some(c) = candidate else {
+    // A large library's ranking keeps checks only for its first places: write them for the
+    // part shown.
+    let candidate = candidate.map(|(role, c)| {
+        crate::fit::with_checks(&app.doc.stage, &app.needs, &app.library, role, c)
+    });
+    let Some(c) = candidate.as_ref() else {
         frame.render_widget(
             Paragraph::new("no part selected").block(block("Detail".into(), focused, theme)),
             area,
