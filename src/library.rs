@@ -35,9 +35,9 @@ pub mod limits {
     pub const MAX_COLUMNS: usize = 4096;
     /// Most diagnostics kept per file; the rest are counted, not stored.
     pub const MAX_DIAGNOSTICS_PER_FILE: usize = 10_000;
-    /// Most rows one library reads, over all its files (5 million: a part takes about 260
-    /// bytes, so the parts stay near 1.3 GB at most). The row past it is rejected with a
-    /// message and the rest of its file is not read.
+    /// Most rows one library reads, over all its files (5 million: a part with a few text
+    /// cells takes about 270 bytes, so the parts stay near 1.4 GB). The row past it is rejected
+    /// with a message and the rest of its file is not read.
     pub const MAX_ROWS: usize = 5_000_000;
     /// Largest row, in bytes (16 MiB), line ends and quoted line breaks included. A file with
     /// no line ends, a quote left open in a large file or an endless stream stops here instead

@@ -58,7 +58,7 @@ pub fn run(args: &Args, parts: &[PathBuf], out: &mut Output) -> Result<u8, CliEr
         }
         Format::Json => {
             let doc = swap::report::to_json(&library, &result, args.limit);
-            out.line(&serde_json::to_string_pretty(&doc).unwrap_or_default())?;
+            out.line(&loadfit::text::to_json_pretty(&doc))?;
         }
         Format::Csv => {
             for line in swap::report::to_csv(&library, &result, args.limit).lines() {

@@ -243,7 +243,7 @@ fn read_records<R: Read>(
                     );
                     library.rows += 1;
                     library.rows_rejected += 1;
-                    reject(library, &mut state, line_of(&record), "", "", message);
+                    reject_last(library, state.file, line_of(&record), message);
                     break;
                 }
                 library.rows += 1;
@@ -252,8 +252,12 @@ fn read_records<R: Read>(
             Err(e) if is_row_too_long(&e) => {
                 library.rows += 1;
                 library.rows_rejected += 1;
-                let message = row_too_long_message();
-                reject(library, &mut state, line_of(&record), "", "", message);
+                reject_last(
+                    library,
+                    state.file,
+                    line_of(&record),
+                    row_too_long_message(),
+                );
                 break;
             }
             Err(e) => {
@@ -1033,6 +1037,21 @@ fn warn(library: &mut Library, file: u32, line: u32, column: &str, text: &str, m
         message: cut(message),
     };
     store(library, file, false, diagnostic);
+}
+
+/// A rejection that ends the reading of the file: kept even past
+/// [`limits::MAX_DIAGNOSTICS_PER_FILE`], since it says why the rest of the file is missing.
+fn reject_last(library: &mut Library, file: u32, line: u32, message: String) {
+    if let Some(counts) = library.diagnostic_counts.get_mut(file as usize) {
+        counts[1] += 1;
+    }
+    library.rejected.push(Diagnostic {
+        file,
+        line: line.max(1),
+        column: String::new(),
+        text: String::new(),
+        message: cut(message),
+    });
 }
 
 fn reject(

@@ -57,7 +57,7 @@ pub fn to_json(trace: &Trace, max_points: usize) -> Value {
 #[must_use]
 pub fn to_json_string(trace: &Trace) -> String {
     // A `Value` built by `json!` always serialises (no non-string keys, no failing types).
-    serde_json::to_string_pretty(&to_json(trace, OUTPUT_POINTS)).unwrap_or_default()
+    crate::text::to_json_pretty(&to_json(trace, OUTPUT_POINTS))
 }
 
 /// Every point as CSV, one row a solver point: `time_s,voltage_V,current_A`, and for an R-C
