@@ -95,11 +95,17 @@ fn event_loop(app: &mut App, stop: &AtomicBool) -> io::Result<()> {
     let backend = ratatui::backend::CrosstermBackend::new(io::stdout());
     let mut terminal = ratatui::Terminal::new(backend)?;
     let theme = view::Theme::from_env();
+    // A test hook: the end-to-end test of terminal restore needs a real panic in the running
+    // workbench. Nothing else sets this variable.
+    let panic_for_test = std::env::var_os("LOADFIT_TEST_PANIC").is_some();
     loop {
         terminal.draw(|frame| {
             app.page = frame.area().height.saturating_sub(6).max(1) as usize;
             view::draw(frame, app, theme);
         })?;
+        if panic_for_test {
+            panic!("LOADFIT_TEST_PANIC is set: a panic to test that the terminal is restored");
+        }
         if stop.load(Ordering::Relaxed) || app.quit {
             return Ok(());
         }

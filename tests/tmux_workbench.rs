@@ -38,6 +38,18 @@ fn wait_for(session: &str, text: &str) -> String {
     }
 }
 
+/// Waits until `text` shows at least `count` times in the pane, returning the pane.
+fn wait_for_count(session: &str, text: &str, count: usize) -> String {
+    let start = Instant::now();
+    loop {
+        let pane = tmux(&["capture-pane", "-p", "-t", session]);
+        if pane.matches(text).count() >= count || start.elapsed() > Duration::from_secs(10) {
+            return pane;
+        }
+        sleep(Duration::from_millis(100));
+    }
+}
+
 struct Session(String);
 
 impl Drop for Session {
@@ -106,7 +118,7 @@ fn the_workbench_runs_in_a_terminal_and_restores_it() {
         "back from the alternate screen"
     );
     tmux(&["send-keys", "-t", &name, "echo typed-back-fine", "Enter"]);
-    let pane = wait_for(&name, "typed-back-fine\n");
+    let pane = wait_for_count(&name, "typed-back-fine", 2);
     assert!(
         pane.matches("typed-back-fine").count() >= 2,
         "input is echoed again: {pane}"
@@ -114,12 +126,13 @@ fn the_workbench_runs_in_a_terminal_and_restores_it() {
     drop(session);
 }
 
-#[test]
-fn sigterm_restores_the_terminal() {
+/// Runs the workbench in a fresh pane, ends it by `how` (a signal sent from outside, or a
+/// panic inside), and checks the pane is back from the alternate screen and echoes input.
+fn ends_with_terminal_restored(label: &str, env: &str, signal: Option<&str>) {
     if !tmux_available() {
         return;
     }
-    let name = format!("loadfit-term-{}", std::process::id());
+    let name = format!("loadfit-{label}-{}", std::process::id());
     let _session = Session(name.clone());
     let bin = env!("CARGO_BIN_EXE_loadfit");
     tmux(&[
@@ -137,26 +150,57 @@ fn sigterm_restores_the_terminal() {
         "send-keys",
         "-t",
         &name,
-        &format!("TERM=xterm-256color {bin}; echo after-term-$((40+2))"),
+        &format!("TERM=xterm-256color {env} {bin} 2>/dev/null; echo after-{label}-$((40+2))"),
         "Enter",
     ]);
-    let pane = wait_for(&name, "Needs:");
-    assert!(pane.contains("[1 Stage]"), "{pane}");
-    let shell = tmux(&["display", "-p", "-t", &name, "#{pane_pid}"]);
-    let child = Command::new("pgrep")
-        .args(["-P", shell.trim()])
-        .output()
-        .expect("pgrep runs");
-    let pid = String::from_utf8_lossy(&child.stdout).trim().to_string();
-    assert!(!pid.is_empty(), "the workbench runs under the shell");
-    Command::new("kill")
-        .args(["-TERM", &pid])
-        .status()
-        .expect("kill runs");
-    let pane = wait_for(&name, "after-term-42");
-    assert!(pane.contains("after-term-42"), "{pane}");
+    if let Some(signal) = signal {
+        let pane = wait_for(&name, "Needs:");
+        assert!(pane.contains("[1 Stage]"), "{pane}");
+        let shell = tmux(&["display", "-p", "-t", &name, "#{pane_pid}"]);
+        let child = Command::new("pgrep")
+            .args(["-P", shell.trim()])
+            .output()
+            .expect("pgrep runs");
+        let pid = String::from_utf8_lossy(&child.stdout).trim().to_string();
+        assert!(!pid.is_empty(), "the workbench runs under the shell");
+        Command::new("kill")
+            .args([signal, &pid])
+            .status()
+            .expect("kill runs");
+    }
+    let marker = format!("after-{label}-42");
+    let pane = wait_for(&name, &marker);
+    assert!(pane.contains(&marker), "{pane}");
     assert_eq!(
         tmux(&["display", "-p", "-t", &name, "#{alternate_on}"]).trim(),
-        "0"
+        "0",
+        "{label}: back from the alternate screen"
     );
+    let echo = format!("echo typed-after-{label}");
+    tmux(&["send-keys", "-t", &name, &echo, "Enter"]);
+    let pane = wait_for_count(&name, &format!("typed-after-{label}"), 2);
+    assert!(
+        pane.matches(&format!("typed-after-{label}")).count() >= 2,
+        "{label}: input is echoed again: {pane}"
+    );
+}
+
+#[test]
+fn sigterm_restores_the_terminal() {
+    ends_with_terminal_restored("term", "", Some("-TERM"));
+}
+
+#[test]
+fn sighup_restores_the_terminal() {
+    ends_with_terminal_restored("hup", "", Some("-HUP"));
+}
+
+#[test]
+fn sigint_restores_the_terminal() {
+    ends_with_terminal_restored("int", "", Some("-INT"));
+}
+
+#[test]
+fn a_panic_restores_the_terminal() {
+    ends_with_terminal_restored("panic", "LOADFIT_TEST_PANIC=1", None);
 }
