@@ -247,7 +247,18 @@ fn read_records<R: Read>(
                     break;
                 }
                 library.rows += 1;
-                read_row(library, &mut state, &record);
+                // Validate the row's UTF-8 once (a single ASCII test for most rows) rather than
+                // cell by cell; a row that is not UTF-8 is read cell by cell as before.
+                match csv::StringRecord::from_byte_record(std::mem::take(&mut record)) {
+                    Ok(text) => {
+                        read_row(library, &mut state, text.as_byte_record(), Some(&text));
+                        record = text.into_byte_record();
+                    }
+                    Err(error) => {
+                        record = error.into_byte_record();
+                        read_row(library, &mut state, &record, None);
+                    }
+                }
             }
             Err(e) if is_row_too_long(&e) => {
                 library.rows += 1;
@@ -432,6 +443,35 @@ fn is_blank(record: &csv::ByteRecord) -> bool {
     record.iter().all(|f| f.iter().all(u8::is_ascii_whitespace))
 }
 
+/// A cell of a row already known to be UTF-8, or decoded on its own.
+#[allow(clippy::too_many_arguments)]
+fn decode_cell<'a>(
+    text: Option<&'a csv::StringRecord>,
+    index: usize,
+    library: &mut Library,
+    file: u32,
+    warned: &mut bool,
+    line: u32,
+    column: &str,
+    raw: &'a [u8],
+) -> Cow<'a, str> {
+    match text.and_then(|t| t.get(index)) {
+        Some(cell) => Cow::Borrowed(cell),
+        None => decode(library, file, warned, line, column, raw),
+    }
+}
+
+/// A cell without surrounding white space or a stray BOM; the common case (nothing to trim)
+/// costs two byte tests.
+fn trim_cell(cell: &str) -> &str {
+    let bytes = cell.as_bytes();
+    let plain = |b: u8| b.is_ascii_graphic();
+    match (bytes.first(), bytes.last()) {
+        (Some(&first), Some(&last)) if plain(first) && plain(last) => cell,
+        _ => cell.trim_matches(is_trimmed),
+    }
+}
+
 /// Decodes a cell: UTF-8 as is, anything else as Windows-1252 (the usual spreadsheet export).
 fn decode<'a>(
     library: &mut Library,
@@ -590,10 +630,23 @@ fn plan_known(
     }
 }
 
-fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteRecord) {
+fn read_row(
+    library: &mut Library,
+    state: &mut FileState,
+    record: &csv::ByteRecord,
+    text: Option<&csv::StringRecord>,
+) {
     let line = record.position().map_or(0, |p| p.line() as u32);
     let columns = state.header.len();
-    if let Some((index, swallowed)) = swallowed_rows(record, state.delimiter, columns) {
+    // Whole-row tests first: most rows hold no line break and are far shorter than the cell
+    // limit, so the per-cell scans below are skipped for them.
+    let row_bytes = record.as_slice();
+    let spans_lines = memchr::memchr(b'\n', row_bytes).is_some();
+    let long = row_bytes.len() > limits::MAX_CELL_BYTES;
+    if let Some((index, swallowed)) = spans_lines
+        .then(|| swallowed_rows(record, state.delimiter, columns))
+        .flatten()
+    {
         let column = state.header.get(index).cloned().unwrap_or_default();
         let text =
             String::from_utf8_lossy(&record[index][..record[index].len().min(200)]).into_owned();
@@ -634,10 +687,14 @@ fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteReco
         reject(library, state, line, &column, &preview.join(","), message);
         return;
     }
-    if let Some((index, raw)) = record
-        .iter()
-        .enumerate()
-        .find(|(_, f)| f.len() > limits::MAX_CELL_BYTES)
+    if let Some((index, raw)) = long
+        .then(|| {
+            record
+                .iter()
+                .enumerate()
+                .find(|(_, f)| f.len() > limits::MAX_CELL_BYTES)
+        })
+        .flatten()
     {
         let column = state.header[index].clone();
         let message = format!(
@@ -665,7 +722,9 @@ fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteReco
 
     let mut problems: Vec<(usize, String, String)> = Vec::new();
     let file = state.file;
-    let number = decode(
+    let number = decode_cell(
+        text,
+        state.part_column,
         library,
         file,
         &mut state.warned_encoding,
@@ -675,7 +734,9 @@ fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteReco
     )
     .trim_matches(is_trimmed)
     .to_string();
-    let kind_cell = decode(
+    let kind_cell = decode_cell(
+        text,
+        state.kind_column,
         library,
         file,
         &mut state.warned_encoding,
@@ -733,7 +794,9 @@ fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteReco
         if raw.iter().all(u8::is_ascii_whitespace) {
             continue;
         }
-        let cell = decode(
+        let cell = decode_cell(
+            text,
+            index,
             library,
             file,
             &mut state.warned_encoding,
@@ -741,7 +804,7 @@ fn read_row(library: &mut Library, state: &mut FileState, record: &csv::ByteReco
             &state.header[index],
             raw,
         );
-        let cell = cell.trim_matches(is_trimmed);
+        let cell = trim_cell(&cell);
         match state.plans[index] {
             Plan::Extra(id) => extra.push((id, cell.into())),
             Plan::Known { spec, scale } => {
@@ -919,6 +982,18 @@ fn read_value(
     let bare = cell
         .bytes()
         .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b',' | b'+' | b'-' | b'e' | b'E'));
+    // A plain decimal number (most cells of a large export) needs no unit parsing.
+    if bare
+        && !cell.contains(',')
+        && cell.as_bytes().first().is_some_and(u8::is_ascii_digit)
+        && let Ok(number) = cell.parse::<f64>()
+    {
+        let value = number * scale;
+        if !value.is_finite() {
+            return Err(format!("\"{cell}\" is out of range"));
+        }
+        return Ok(value);
+    }
     let quantity = units::parse_with(cell, dim, options).map_err(|e| e.to_string())?;
     if bare {
         let value = quantity.value * scale;
