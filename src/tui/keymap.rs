@@ -259,7 +259,7 @@ pub const BINDINGS: &[Binding] = &[
         Action::StartExport,
         Scope::Global,
         "x",
-        "export the shortlist (.csv, .md, .json); the trace from the Trace panel (.svg, .csv, .json)",
+        "export the shortlist (.csv .md .json), or the trace shown (.svg .csv .json)",
     ),
     bind(
         KeyCode::Char('w'),

@@ -859,7 +859,7 @@ fn bottom(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
                 "typing: Enter applies, Esc cancels; units as you like (12 V, 4k7, 100 mH)",
             ),
             None => Line::from(Span::styled(
-                "Tab panels · ↑↓ move · ←→ role/choice · Enter edit/open · Space keep · / search · s sort · f fits · x export · w save · ? help · q quit",
+                "? help · q quit · Tab panels · ↑↓ move · ←→ role/choice · Enter edit · Space keep · / search · r swap · c worst case · x export · w save",
                 theme.dim(),
             )),
         },
@@ -882,7 +882,7 @@ fn help(frame: &mut Frame<'_>, theme: Theme, area: Rect) {
         })
         .collect();
     let height = (lines.len() as u16 + 2).min(area.height);
-    let width = 78.min(area.width);
+    let width = area.width.saturating_sub(4).clamp(20, 104);
     let popup = Rect {
         x: area.x + (area.width - width) / 2,
         y: area.y + (area.height - height) / 2,
