@@ -168,7 +168,13 @@ impl StageDoc {
     /// # Errors
     /// The stage's own message when the text is not a stage.
     pub fn parse(text: &str, file: &str) -> Result<StageDoc, String> {
-        let stage = Stage::from_toml(text, file).map_err(|e| e.to_string())?;
+        let mut stage = Stage::from_toml(text, file).map_err(|e| e.to_string())?;
+        if stage.title.is_empty() {
+            // As `Stage::read` does: a stage without a title is called by its file's name.
+            stage.title = std::path::Path::new(file)
+                .file_name()
+                .map_or_else(|| file.to_string(), |n| n.to_string_lossy().into_owned());
+        }
         let table: Table = text.parse().map_err(|e: toml::de::Error| e.to_string())?;
         Ok(StageDoc {
             table,
