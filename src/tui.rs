@@ -109,7 +109,9 @@ fn event_loop(app: &mut App, stop: &AtomicBool) -> io::Result<()> {
         if stop.load(Ordering::Relaxed) || app.quit {
             return Ok(());
         }
-        if !event::poll(Duration::from_millis(200))? {
+        let wait = if app.pending.is_some() { 30 } else { 200 };
+        if !event::poll(Duration::from_millis(wait))? {
+            app.poll_background();
             continue;
         }
         match event::read()? {
@@ -122,6 +124,7 @@ fn event_loop(app: &mut App, stop: &AtomicBool) -> io::Result<()> {
             Event::Resize(_, _) => terminal.autoresize()?,
             _ => {}
         }
+        app.poll_background();
     }
 }
 

@@ -106,7 +106,8 @@ pub struct Search {
 /// The whole state of the workbench.
 pub struct App {
     /// The parts library.
-    pub library: Library,
+    /// Shared with the background worker that recomputes a large library's fit.
+    pub library: std::sync::Arc<Library>,
     /// The library's paths (never written to).
     pub library_paths: Vec<PathBuf>,
     /// The stage as an editable document.
@@ -167,6 +168,10 @@ pub struct App {
     pub message: Option<String>,
     /// The app should end.
     pub quit: bool,
+    /// A recomputation running in the background (large libraries): its number and where its
+    /// result arrives. The screen shows the last result meanwhile and keys keep working.
+    pub pending: Option<(u64, Results)>,
+    generation: u64,
     /// Rows a page moves (set from the terminal height by the view).
     pub page: usize,
     visible: Vec<usize>,
@@ -183,7 +188,7 @@ impl App {
         stage_path: Option<PathBuf>,
     ) -> App {
         let mut app = App {
-            library,
+            library: std::sync::Arc::new(library),
             library_paths,
             doc,
             stage_path,
@@ -214,6 +219,8 @@ impl App {
             help: false,
             message: None,
             quit: false,
+            pending: None,
+            generation: 0,
             page: 10,
             visible: Vec::new(),
             matcher: SkimMatcherV2::default(),
@@ -223,16 +230,67 @@ impl App {
         app
     }
 
-    /// Needs, fit and the visible list again, after the stage or a view option changed.
+    /// Needs, fit and the visible list again, after the stage or a view option changed. A
+    /// library over [`BACKGROUND_PARTS`] parts is evaluated on a worker thread, so a key press
+    /// never waits for it; [`App::poll_background`] takes the result in.
     pub fn recompute(&mut self) {
-        // The toggle decides, whatever the stage's own `worst_case` says; the worst-case needs
-        // carry their nominal values for the side-by-side view.
-        self.needs = if self.worst_case {
-            needs::compute_both(&self.doc.stage, Some(&self.library)).worst
-        } else {
-            needs::compute_nominal(&self.doc.stage, Some(&self.library))
+        self.generation += 1;
+        if self.library.parts.len() > BACKGROUND_PARTS {
+            let (sender, receiver) = std::sync::mpsc::channel();
+            let generation = self.generation;
+            let stage = self.doc.stage.clone();
+            let library = std::sync::Arc::clone(&self.library);
+            let (worst_case, sort) = (self.worst_case, self.sort);
+            std::thread::spawn(move || {
+                let (needs, fit) = evaluate(&stage, &library, worst_case, sort);
+                // The workbench may have moved on or ended: a result nobody waits for is dropped.
+                let _ = sender.send((generation, needs, fit));
+            });
+            self.pending = Some((generation, receiver));
+            return;
+        }
+        let (needs, fit) = evaluate(&self.doc.stage, &self.library, self.worst_case, self.sort);
+        self.apply(needs, fit);
+    }
+
+    /// Takes in a background result if one has arrived; returns whether the screen changed.
+    pub fn poll_background(&mut self) -> bool {
+        let Some((generation, receiver)) = &self.pending else {
+            return false;
         };
-        self.fit = fit::evaluate(&self.doc.stage, &self.needs, &self.library, self.sort);
+        match receiver.try_recv() {
+            Ok((done, needs, fit)) if done == *generation => {
+                self.pending = None;
+                self.apply(needs, fit);
+                true
+            }
+            // An older result: a newer computation is on its way.
+            Ok(_) | Err(std::sync::mpsc::TryRecvError::Empty) => false,
+            Err(std::sync::mpsc::TryRecvError::Disconnected) => {
+                self.pending = None;
+                self.message = Some("the recomputation failed; edit again to retry".to_string());
+                true
+            }
+        }
+    }
+
+    /// Waits for a background recomputation to finish (for tests and scripted use).
+    pub fn wait_for_background(&mut self) {
+        while let Some((generation, receiver)) = &self.pending {
+            match receiver.recv() {
+                Ok((done, needs, fit)) if done == *generation => {
+                    self.pending = None;
+                    self.apply(needs, fit);
+                }
+                Ok(_) => {}
+                Err(_) => self.pending = None,
+            }
+        }
+    }
+
+    fn apply(&mut self, needs: Needs, fit: Fit) {
+        self.needs = needs;
+        self.fit = fit;
         self.role = self.role.min(self.fit.roles.len().saturating_sub(1));
         self.refilter();
         self.retrace();
@@ -946,6 +1004,29 @@ impl App {
             self.focus(Panel::Detail);
         }
     }
+}
+
+/// Where a background recomputation's result arrives: its number, the needs and the fit.
+pub type Results = std::sync::mpsc::Receiver<(u64, Needs, Fit)>;
+
+/// Libraries over this many parts are evaluated on a worker thread after each edit.
+pub const BACKGROUND_PARTS: usize = 50_000;
+
+/// The needs of a stage (nominal, or at their worst corners carrying the nominal values for the
+/// side-by-side view) and the fit of the library against them.
+fn evaluate(
+    stage: &crate::stage::Stage,
+    library: &Library,
+    worst_case: bool,
+    sort: SortKey,
+) -> (Needs, Fit) {
+    let needs = if worst_case {
+        needs::compute_both(stage, Some(library)).worst
+    } else {
+        needs::compute_nominal(stage, Some(library))
+    };
+    let fit = fit::evaluate(stage, &needs, library, sort);
+    (needs, fit)
 }
 
 /// The autosave beside a stage file: `.NAME.autosave` in the same folder.

@@ -391,3 +391,41 @@ fn a_trace_exports_as_svg_from_its_panel() {
         &svg[..80.min(svg.len())]
     );
 }
+
+#[test]
+fn a_large_library_is_recomputed_in_the_background() {
+    let mut text = Vec::new();
+    crate::synthetic::write_library(&mut text, 60_000, 5).unwrap();
+    let mut library = Library::new();
+    library.add_bytes("big.csv", &text).unwrap();
+    assert!(library.parts.len() > super::app::BACKGROUND_PARTS);
+    let doc = StageDoc::parse(super::DEMO_STAGE, "mains-pump-relay.toml").unwrap();
+    let mut app = App::new(library, Vec::new(), doc, None);
+    assert!(
+        app.pending.is_some(),
+        "the first evaluation runs on a worker"
+    );
+    assert!(render(&app, 120, 32).contains("recomputing"));
+    app.wait_for_background();
+    let before = app.needs.value("switch.voltage").unwrap();
+    assert!(!app.fit.roles.is_empty());
+    // An edit returns at once; the result follows.
+    app.stage_cursor = field_index("supply.volts");
+    app.update(Action::Enter);
+    for _ in 0..10 {
+        app.update(Action::Backspace);
+    }
+    for c in "24 V".chars() {
+        app.update(Action::Type(c));
+    }
+    app.update(Action::Enter);
+    assert!(app.pending.is_some());
+    assert_eq!(
+        app.needs.value("switch.voltage"),
+        Some(before),
+        "the last result stays on screen"
+    );
+    app.wait_for_background();
+    assert!(app.needs.value("switch.voltage").unwrap() > before);
+    assert!(app.pending.is_none());
+}

@@ -819,10 +819,15 @@ fn status(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
         |p| clean(&p.display().to_string()).into_owned(),
     );
     let text = format!(
-        " library {files}: {} parts, {} rejected │ stage {stage}{} │ kept {}",
+        " library {files}: {} parts, {} rejected │ stage {stage}{}{} │ kept {}",
         lib.parts.len(),
         lib.rows_rejected,
         if app.dirty { " [unsaved edits]" } else { "" },
+        if app.pending.is_some() {
+            " │ recomputing…"
+        } else {
+            ""
+        },
         app.shortlist.len()
     );
     frame.render_widget(Paragraph::new(text).style(theme.selected()), area);
