@@ -175,6 +175,8 @@ pub struct App {
     /// Rows a page moves (set from the terminal height by the view).
     pub page: usize,
     visible: Vec<usize>,
+    /// The role, fits-only flag and query the visible list was last made for.
+    last_filter: Option<(usize, bool, String)>,
     matcher: SkimMatcherV2,
 }
 
@@ -223,6 +225,7 @@ impl App {
             generation: 0,
             page: 10,
             visible: Vec::new(),
+            last_filter: None,
             matcher: SkimMatcherV2::default(),
         };
         app.worst_case = app.doc.stage.rules.worst_case;
@@ -291,6 +294,8 @@ impl App {
     fn apply(&mut self, needs: Needs, fit: Fit) {
         self.needs = needs;
         self.fit = fit;
+        // Candidate positions change with a new fit: the next filter starts from all of them.
+        self.last_filter = None;
         self.role = self.role.min(self.fit.roles.len().saturating_sub(1));
         self.refilter();
         self.retrace();
@@ -372,21 +377,45 @@ impl App {
             .as_ref()
             .map(|s| s.query.trim().to_string())
             .unwrap_or_default();
-        self.visible = role
-            .candidates
-            .iter()
-            .enumerate()
-            .filter(|(_, c)| !self.only_fits || c.verdict == Verdict::Fits)
-            .filter(|(_, c)| {
-                query.is_empty()
-                    || self
-                        .matcher
-                        .fuzzy_match(&search_text(&self.library, c.part), &query)
-                        .is_some()
+        // When the query only grew, its hits are among the last ones: search those alone.
+        let narrowing = self.last_filter.as_ref().is_some_and(|(role, fits, last)| {
+            *role == self.role
+                && *fits == self.only_fits
+                && !last.is_empty()
+                && query.starts_with(last.as_str())
+        });
+        let base: Vec<usize> = if narrowing {
+            std::mem::take(&mut self.visible)
+        } else {
+            (0..role.candidates.len()).collect()
+        };
+        let lower = query.to_lowercase();
+        let library = &self.library;
+        let matcher = &self.matcher;
+        self.visible = base
+            .into_iter()
+            .filter(|&i| {
+                let c = &role.candidates[i];
+                (!self.only_fits || c.verdict == Verdict::Fits)
+                    && (query.is_empty()
+                        || (could_match(library, c.part, &lower)
+                            && matcher
+                                .fuzzy_match(&search_text(library, c.part), &query)
+                                .is_some()))
             })
-            .map(|(i, _)| i)
             .collect();
+        self.last_filter = Some((self.role, self.only_fits, query));
         self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
+    }
+
+    /// The visible list made from every candidate, not narrowed from the last (for tests).
+    #[must_use]
+    pub fn visible_from_scratch(&mut self) -> Vec<usize> {
+        let kept = (self.visible.clone(), self.last_filter.take());
+        self.refilter();
+        let fresh = self.visible.clone();
+        (self.visible, self.last_filter) = kept;
+        fresh
     }
 
     /// Indices into the selected role's candidates that the Parts panel shows.
@@ -1034,6 +1063,35 @@ fn evaluate(
 pub fn autosave_path_for(stage: &std::path::Path) -> Option<PathBuf> {
     let name = stage.file_name()?.to_string_lossy();
     Some(stage.with_file_name(format!(".{name}.autosave")))
+}
+
+/// Whether the letters of `lower` (a lower-case query, spaces ignored) appear in order in the
+/// part's search text, ignoring case: a test without allocation that every fuzzy match passes,
+/// so the scorer runs only on parts that can match.
+fn could_match(library: &Library, part: usize, lower: &str) -> bool {
+    let Some(p) = library.parts.get(part) else {
+        return false;
+    };
+    let mut wanted = lower.chars().filter(|c| !c.is_whitespace()).peekable();
+    let fields = [
+        &*p.number,
+        library.text(p.maker),
+        library.text(p.package),
+        &*p.notes,
+        &*p.tags,
+    ];
+    for field in fields {
+        for c in field.chars() {
+            match wanted.peek() {
+                None => return true,
+                Some(&w) if c.to_lowercase().eq(std::iter::once(w)) || c == w => {
+                    wanted.next();
+                }
+                Some(_) => {}
+            }
+        }
+    }
+    wanted.peek().is_none()
 }
 
 /// The text a part is searched by: number, maker, package, notes and tags.

@@ -169,6 +169,12 @@ fn search_narrows_the_table() {
     }
     let narrowed = app.visible().len();
     assert!(narrowed > 0 && narrowed < all, "{all} -> {narrowed}");
+    // Narrowing from the last hits as the query grows gives what a search from scratch gives.
+    let shown = app.visible().to_vec();
+    assert_eq!(shown, app.visible_from_scratch());
+    app.update(Action::Backspace);
+    let shown = app.visible().to_vec();
+    assert_eq!(shown, app.visible_from_scratch());
     app.update(Action::Back);
     assert_eq!(app.visible().len(), all);
 }
