@@ -1,0 +1,67 @@
+//! Evaluation, ranking and search over a generated library of 100 000 parts.
+//! `cargo bench --bench fit`. Issue targets: an edit's needs + evaluation + ranking well under
+//! 100 ms per 100 000 parts; a search key's results within 30 ms at 100 000 parts.
+
+use loadfit::fit::{self, SortKey};
+use loadfit::library::Library;
+use loadfit::needs;
+use loadfit::stage::Stage;
+use loadfit::tui::action::Action;
+use loadfit::tui::app::App;
+use loadfit::tui::fields::StageDoc;
+
+fn main() {
+    divan::main();
+}
+
+const STAGE: &str = include_str!("../data/stages/door-strike.toml");
+
+fn library(rows: u64) -> Library {
+    let mut text = Vec::new();
+    // Writing into a Vec cannot fail.
+    loadfit::synthetic::write_library(&mut text, rows, 1).unwrap_or_default();
+    let mut library = Library::new();
+    let _ = library.add_bytes("bench.csv", &text);
+    library
+}
+
+#[divan::bench(args = [100_000])]
+fn needs_evaluate_rank(bencher: divan::Bencher, rows: u64) {
+    let library = library(rows);
+    let stage = Stage::from_toml(STAGE, "door-strike.toml").expect("the demo stage reads");
+    bencher.bench(|| {
+        let needs = needs::compute(&stage, Some(&library));
+        let fit = fit::evaluate(&stage, &needs, &library, SortKey::Score);
+        divan::black_box(fit.roles.len())
+    });
+}
+
+#[divan::bench(args = [100_000])]
+fn rank_only(bencher: divan::Bencher, rows: u64) {
+    let library = library(rows);
+    let stage = Stage::from_toml(STAGE, "door-strike.toml").expect("the demo stage reads");
+    let needs = needs::compute(&stage, Some(&library));
+    let fit = fit::evaluate(&stage, &needs, &library, SortKey::Score);
+    let candidates = fit.roles[0].candidates.clone();
+    bencher.bench(|| {
+        let mut again = candidates.clone();
+        fit::rank::rank(&mut again, &library, SortKey::Price);
+        divan::black_box(again.len())
+    });
+}
+
+#[divan::bench(args = [100_000])]
+fn search_key(bencher: divan::Bencher, rows: u64) {
+    let doc = StageDoc::parse(STAGE, "door-strike.toml").expect("the demo stage reads");
+    let mut app = App::new(library(rows), Vec::new(), doc, None);
+    app.wait_for_background();
+    app.update(Action::Panel(2));
+    bencher.bench_local(|| {
+        // One key of a search from an empty query: the slowest case, nothing to narrow from.
+        app.update(Action::StartSearch);
+        app.update(Action::Type('c'));
+        let shown = app.visible().len();
+        app.update(Action::Back);
+        divan::black_box(shown)
+    });
+}
