@@ -515,6 +515,22 @@ pub fn write_shortlist(
     Ok(())
 }
 
+/// The files a list of library paths stands for: a folder protects every file in it.
+#[must_use]
+pub fn library_files(paths: &[PathBuf]) -> Vec<PathBuf> {
+    let mut files = Vec::new();
+    for path in paths {
+        if path.is_dir() {
+            if let Ok(entries) = std::fs::read_dir(path) {
+                files.extend(entries.filter_map(Result::ok).map(|e| e.path()));
+            }
+        } else {
+            files.push(path.clone());
+        }
+    }
+    files
+}
+
 /// Whether `path` is (or, by its canonical path, resolves to) one of the library files.
 #[must_use]
 pub fn is_library_file(path: &Path, library_files: &[PathBuf]) -> bool {

@@ -43,7 +43,7 @@ pub fn run(args: &Args, parts: &[PathBuf], out: &mut Output) -> Result<u8, CliEr
         &args.out,
         &context,
         &shortlist,
-        &protected_files(&protected),
+        &loadfit::export::library_files(&protected),
         args.force,
     )?;
     out.line(&format!(
@@ -58,19 +58,4 @@ pub fn run(args: &Args, parts: &[PathBuf], out: &mut Output) -> Result<u8, CliEr
         }
     }
     Ok(u8::from(shortlist.roles.iter().any(|(_, p)| p.is_empty())))
-}
-
-/// Library paths expanded: a folder protects every file in it.
-fn protected_files(paths: &[PathBuf]) -> Vec<PathBuf> {
-    let mut files = Vec::new();
-    for path in paths {
-        if path.is_dir() {
-            if let Ok(entries) = std::fs::read_dir(path) {
-                files.extend(entries.filter_map(Result::ok).map(|e| e.path()));
-            }
-        } else {
-            files.push(path.clone());
-        }
-    }
-    files
 }

@@ -148,6 +148,30 @@ impl Out {
         self.checks.last_mut()
     }
 
+    /// Holds `rating` against the need `id` as a lower bound.
+    fn min(
+        &mut self,
+        needs: &Needs,
+        id: &'static str,
+        name: &'static str,
+        rating: Option<f64>,
+        dim: Dim,
+    ) {
+        self.push(at_least(id, name, rating, needs.value(id), dim));
+    }
+
+    /// Holds `rating` against the need `id` as an upper bound.
+    fn max(
+        &mut self,
+        needs: &Needs,
+        id: &'static str,
+        name: &'static str,
+        rating: Option<f64>,
+        dim: Dim,
+    ) {
+        self.push(at_most(id, name, rating, needs.value(id), dim));
+    }
+
     /// The check with a note added, the note written only when detail is asked for.
     fn note(&self, check: Check, note: impl FnOnce() -> String) -> Check {
         if self.detail {
@@ -281,20 +305,14 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
     let worst_case = needs.is_worst_case();
     let ambient = worst::thermal_ambient(stage, worst_case).value();
     if let Some(b) = part.bjt() {
-        checks.push(at_least(
-            ids::SWITCH_VOLTAGE,
-            "vceo",
-            b.vceo.get(),
-            needs.value(ids::SWITCH_VOLTAGE),
-            Dim::Volt,
-        ));
-        checks.push(at_least(
+        checks.min(needs, ids::SWITCH_VOLTAGE, "vceo", b.vceo.get(), Dim::Volt);
+        checks.min(
+            needs,
             ids::SWITCH_CURRENT,
             "ic_max",
             b.ic_max.get(),
-            needs.value(ids::SWITCH_CURRENT),
             Dim::Amp,
-        ));
+        );
         if needs.get(ids::SWITCH_GAIN).is_some() {
             let mut gain = at_least(
                 ids::SWITCH_GAIN,
@@ -351,20 +369,14 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
             );
         }
     } else if let Some(m) = part.mosfet() {
-        checks.push(at_least(
-            ids::SWITCH_VOLTAGE,
-            "vds",
-            m.vds.get(),
-            needs.value(ids::SWITCH_VOLTAGE),
-            Dim::Volt,
-        ));
-        checks.push(at_least(
+        checks.min(needs, ids::SWITCH_VOLTAGE, "vds", m.vds.get(), Dim::Volt);
+        checks.min(
+            needs,
             ids::SWITCH_CURRENT,
             "id_max",
             m.id_max.get(),
-            needs.value(ids::SWITCH_CURRENT),
             Dim::Amp,
-        ));
+        );
         if needs.get(ids::SWITCH_GATE_DRIVE).is_some() {
             let mut gate = at_most(
                 ids::SWITCH_GATE_DRIVE,
@@ -381,22 +393,22 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
             checks.push(gate);
         }
         if needs.get(ids::SWITCH_GATE_THRESHOLD).is_some() {
-            checks.push(at_most(
+            checks.max(
+                needs,
                 ids::SWITCH_GATE_THRESHOLD,
                 "vgs_th_max",
                 m.vgs_th_max.get(),
-                needs.value(ids::SWITCH_GATE_THRESHOLD),
                 Dim::Volt,
-            ));
+            );
         }
         if needs.get(ids::SWITCH_GATE_VOLTAGE).is_some() {
-            checks.push(at_least(
+            checks.min(
+                needs,
                 ids::SWITCH_GATE_VOLTAGE,
                 "vgs_max",
                 m.vgs_max.get(),
-                needs.value(ids::SWITCH_GATE_VOLTAGE),
                 Dim::Volt,
-            ));
+            );
         }
         if let Some(il) = il {
             let p = m
@@ -448,20 +460,14 @@ fn base_current(stage: &Stage, needs: &Needs) -> f64 {
 
 fn clamp(needs: &Needs, part: &Part, checks: &mut Out) {
     let Some(d) = part.diode() else { return };
-    checks.push(at_least(
-        ids::CLAMP_VOLTAGE,
-        "vrrm",
-        d.vrrm.get(),
-        needs.value(ids::CLAMP_VOLTAGE),
-        Dim::Volt,
-    ));
-    checks.push(at_least(
+    checks.min(needs, ids::CLAMP_VOLTAGE, "vrrm", d.vrrm.get(), Dim::Volt);
+    checks.min(
+        needs,
         ids::CLAMP_CURRENT,
         "if_avg",
         d.if_avg.get(),
-        needs.value(ids::CLAMP_CURRENT),
         Dim::Amp,
-    ));
+    );
 }
 
 fn zener(needs: &Needs, part: &Part, checks: &mut Out) {
@@ -517,20 +523,20 @@ fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
         coil_check.note = Cow::Borrowed("coil_r not given: the coil current is unknown");
     }
     checks.push(coil_check);
-    checks.push(at_most(
+    checks.max(
+        needs,
         ids::RELAY_OPERATE_VOLTAGE,
         "must_operate_v",
         r.must_operate_v.get(),
-        needs.value(ids::RELAY_OPERATE_VOLTAGE),
         Dim::Volt,
-    ));
-    checks.push(at_least(
+    );
+    checks.min(
+        needs,
         ids::RELAY_COIL_VOLTAGE_MAX,
         "coil_v_max",
         r.coil_v_max.get(),
-        needs.value(ids::RELAY_COIL_VOLTAGE_MAX),
         Dim::Volt,
-    ));
+    );
     let ac = stage.contacts.is_none_or(|c| c.ac);
     let (v_name, v, a_name, a) = if ac {
         (
@@ -548,22 +554,10 @@ fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
         )
     };
     if needs.get(ids::RELAY_CONTACT_VOLTAGE).is_some() {
-        checks.push(at_least(
-            ids::RELAY_CONTACT_VOLTAGE,
-            v_name,
-            v,
-            needs.value(ids::RELAY_CONTACT_VOLTAGE),
-            Dim::Volt,
-        ));
+        checks.min(needs, ids::RELAY_CONTACT_VOLTAGE, v_name, v, Dim::Volt);
     }
     if needs.get(ids::RELAY_CONTACT_CURRENT).is_some() {
-        checks.push(at_least(
-            ids::RELAY_CONTACT_CURRENT,
-            a_name,
-            a,
-            needs.value(ids::RELAY_CONTACT_CURRENT),
-            Dim::Amp,
-        ));
+        checks.min(needs, ids::RELAY_CONTACT_CURRENT, a_name, a, Dim::Amp);
     }
     if let Some(inrush) = needs.get(ids::RELAY_INRUSH) {
         let mut check = at_least(
@@ -590,41 +584,35 @@ fn relay(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
         checks.push(check);
     }
     if needs.value(ids::RELAY_IMPULSE).is_some() {
-        checks.push(at_least(
+        checks.min(
+            needs,
             ids::RELAY_IMPULSE,
             "impulse_v",
             r.impulse_v.get(),
-            needs.value(ids::RELAY_IMPULSE),
             Dim::Volt,
-        ));
+        );
     }
     if needs.value(ids::RELAY_DIELECTRIC).is_some() {
-        checks.push(at_least(
+        checks.min(
+            needs,
             ids::RELAY_DIELECTRIC,
             "dielectric_v",
             r.dielectric_v.get(),
-            needs.value(ids::RELAY_DIELECTRIC),
             Dim::Volt,
-        ));
+        );
     }
 }
 
 fn sensor(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
     let Some(p) = part.photocell() else { return };
-    checks.push(at_least(
+    checks.min(
+        needs,
         ids::SENSOR_VOLTAGE,
         "v_max",
         p.v_max.get(),
-        needs.value(ids::SENSOR_VOLTAGE),
         Dim::Volt,
-    ));
-    checks.push(at_least(
-        ids::SENSOR_POWER,
-        "p_max",
-        p.p_max.get(),
-        needs.value(ids::SENSOR_POWER),
-        Dim::Watt,
-    ));
+    );
+    checks.min(needs, ids::SENSOR_POWER, "p_max", p.p_max.get(), Dim::Watt);
     if let Some(sensor) = &stage.sensor {
         let own = match (
             needs.value(ids::SENSOR_FIXED_RESISTOR),

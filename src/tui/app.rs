@@ -892,17 +892,7 @@ impl App {
     }
 
     fn protected(&self) -> Vec<PathBuf> {
-        let mut files = Vec::new();
-        for path in &self.library_paths {
-            if path.is_dir() {
-                if let Ok(entries) = std::fs::read_dir(path) {
-                    files.extend(entries.filter_map(Result::ok).map(|e| e.path()));
-                }
-            } else {
-                files.push(path.clone());
-            }
-        }
-        files
+        crate::export::library_files(&self.library_paths)
     }
 
     /// Writes the shortlist to `path` (format from the extension); from the Trace panel, the
