@@ -1089,6 +1089,25 @@ fn axis_labels(low: f64, high: f64, dim: Dim) -> Vec<Line<'static>> {
     ]
 }
 
+/// One line or set of points of a trace chart; a series without a name stays out of the legend.
+fn chart_series<'a>(
+    name: Option<String>,
+    marker: Marker,
+    kind: GraphType,
+    style: Style,
+    data: &'a [(f64, f64)],
+) -> Dataset<'a> {
+    let set = Dataset::default()
+        .marker(marker)
+        .graph_type(kind)
+        .style(style)
+        .data(data);
+    match name {
+        Some(name) => set.name(name),
+        None => set,
+    }
+}
+
 fn trace_charts(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
     let (stage, part) = traces(app);
     let Some(base) = part.or(stage) else {
@@ -1156,49 +1175,45 @@ fn trace_charts(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
     let peak: Vec<(f64, f64)> = base.peak_marker().into_iter().collect();
     let release: Vec<(f64, f64)> = base.release_marker().into_iter().collect();
     let part_name = base.part.clone().unwrap_or_else(|| "stage".to_string());
-    let mut v_sets = vec![
-        Dataset::default()
-            .name("stage (assumed parts)")
-            .marker(Marker::Braille)
-            .graph_type(GraphType::Line)
-            .style(theme.dim())
-            .data(&v_stage),
-    ];
+    let mut v_sets = vec![chart_series(
+        Some("stage (assumed parts)".into()),
+        Marker::Braille,
+        GraphType::Line,
+        theme.dim(),
+        &v_stage,
+    )];
     if !v_part.is_empty() {
-        v_sets.push(
-            Dataset::default()
-                .name(clean(&part_name).into_owned())
-                .marker(Marker::Braille)
-                .graph_type(GraphType::Line)
-                .style(theme.fg(Color::Cyan))
-                .data(&v_part),
-        );
+        v_sets.push(chart_series(
+            Some(clean(&part_name).into_owned()),
+            Marker::Braille,
+            GraphType::Line,
+            theme.fg(Color::Cyan),
+            &v_part,
+        ));
     }
     if let Some(r) = rating {
-        v_sets.push(
-            Dataset::default()
-                .name(format!("{} {}", r.name, format_eng(r.volts, Dim::Volt)))
-                .marker(Marker::Dot)
-                .graph_type(GraphType::Line)
-                .style(theme.fg(Color::Red))
-                .data(&rating_line),
-        );
+        v_sets.push(chart_series(
+            Some(format!("{} {}", r.name, format_eng(r.volts, Dim::Volt))),
+            Marker::Dot,
+            GraphType::Line,
+            theme.fg(Color::Red),
+            &rating_line,
+        ));
     }
-    v_sets.push(
-        Dataset::default()
-            .name("peak ▲")
-            .marker(Marker::Block)
-            .graph_type(GraphType::Scatter)
-            .style(theme.fg(Color::Yellow))
-            .data(&peak),
-    );
-    v_sets.push(
-        Dataset::default()
-            .marker(Marker::Dot)
-            .graph_type(GraphType::Line)
-            .style(theme.dim())
-            .data(&cursor_v),
-    );
+    v_sets.push(chart_series(
+        Some("peak ▲".into()),
+        Marker::Block,
+        GraphType::Scatter,
+        theme.fg(Color::Yellow),
+        &peak,
+    ));
+    v_sets.push(chart_series(
+        None,
+        Marker::Dot,
+        GraphType::Line,
+        theme.dim(),
+        &cursor_v,
+    ));
     let v_chart = Chart::new(v_sets)
         .block(block(
             format!(
@@ -1219,39 +1234,36 @@ fn trace_charts(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
             Dim::Volt,
         )));
     frame.render_widget(v_chart, top);
-    let mut i_sets = vec![
-        Dataset::default()
-            .name("stage")
-            .marker(Marker::Braille)
-            .graph_type(GraphType::Line)
-            .style(theme.dim())
-            .data(&i_stage),
-    ];
+    let mut i_sets = vec![chart_series(
+        Some("stage".into()),
+        Marker::Braille,
+        GraphType::Line,
+        theme.dim(),
+        &i_stage,
+    )];
     if !i_part.is_empty() {
-        i_sets.push(
-            Dataset::default()
-                .name(clean(&part_name).into_owned())
-                .marker(Marker::Braille)
-                .graph_type(GraphType::Line)
-                .style(theme.fg(Color::Cyan))
-                .data(&i_part),
-        );
+        i_sets.push(chart_series(
+            Some(clean(&part_name).into_owned()),
+            Marker::Braille,
+            GraphType::Line,
+            theme.fg(Color::Cyan),
+            &i_part,
+        ));
     }
-    i_sets.push(
-        Dataset::default()
-            .name("release ●")
-            .marker(Marker::Block)
-            .graph_type(GraphType::Scatter)
-            .style(theme.fg(Color::Yellow))
-            .data(&release),
-    );
-    i_sets.push(
-        Dataset::default()
-            .marker(Marker::Dot)
-            .graph_type(GraphType::Line)
-            .style(theme.dim())
-            .data(&cursor_i),
-    );
+    i_sets.push(chart_series(
+        Some("release ●".into()),
+        Marker::Block,
+        GraphType::Scatter,
+        theme.fg(Color::Yellow),
+        &release,
+    ));
+    i_sets.push(chart_series(
+        None,
+        Marker::Dot,
+        GraphType::Line,
+        theme.dim(),
+        &cursor_i,
+    ));
     let i_chart = Chart::new(i_sets)
         .block(block("load current".to_string(), false, theme))
         .x_axis(
