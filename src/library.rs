@@ -17,6 +17,8 @@ pub use part::{
 use std::collections::HashMap;
 use std::hash::{BuildHasherDefault, Hasher};
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use std::sync::atomic::{AtomicU64, Ordering};
 use thiserror::Error;
 
 /// The built-in demo library (invented parts), embedded so `loadfit` runs with no files.
@@ -142,6 +144,8 @@ pub struct Library {
     pub(crate) diagnostic_counts: Vec<[usize; 2]>,
     /// A row limit below [`limits::MAX_ROWS`], if one was set.
     row_limit: Option<usize>,
+    /// Where a load in progress reports how far it has come, if anyone watches.
+    progress: Option<Arc<LoadProgress>>,
     strings: Vec<Box<str>>,
     string_ids: HashMap<Box<str>, u32, BuildHasherDefault<Fnv>>,
     index: HashMap<u64, u32, BuildHasherDefault<Fnv>>,
@@ -179,6 +183,26 @@ impl Library {
         for path in paths {
             library.add_path(path.as_ref())?;
         }
+        Ok(library)
+    }
+
+    /// Reads the files named as [`Library::load`] does, reporting rows and bytes read to
+    /// `progress` as it goes, so another thread can show a gauge while a large library loads.
+    ///
+    /// # Errors
+    /// As [`Library::load`].
+    pub fn load_with_progress<P: AsRef<Path>>(
+        paths: &[P],
+        progress: Arc<LoadProgress>,
+    ) -> Result<Library, LoadError> {
+        let total: u64 = paths.iter().map(|p| library_bytes(p.as_ref())).sum();
+        progress.total_bytes.store(total, Ordering::Relaxed);
+        let mut library = Library::new();
+        library.progress = Some(Arc::clone(&progress));
+        for path in paths {
+            library.add_path(path.as_ref())?;
+        }
+        library.progress = None;
         Ok(library)
     }
 
@@ -222,7 +246,24 @@ impl Library {
             source,
         })?;
         let reader = std::io::BufReader::with_capacity(256 * 1024, file);
-        read::read_reader(self, &path.display().to_string(), reader).map_err(|e| e.at(path))
+        let result =
+            read::read_reader(self, &path.display().to_string(), reader).map_err(|e| e.at(path));
+        if let Some(progress) = &self.progress {
+            let size = std::fs::metadata(path).map_or(0, |m| m.len());
+            let done = progress.files_bytes.fetch_add(size, Ordering::Relaxed) + size;
+            progress.bytes.store(done, Ordering::Relaxed);
+            progress.rows.store(self.rows as u64, Ordering::Relaxed);
+        }
+        result
+    }
+
+    /// Tells a watcher how far the file being read has come (`position` bytes into it).
+    pub(crate) fn report_progress(&self, position: u64) {
+        if let Some(progress) = &self.progress {
+            let before = progress.files_bytes.load(Ordering::Relaxed);
+            progress.bytes.store(before + position, Ordering::Relaxed);
+            progress.rows.store(self.rows as u64, Ordering::Relaxed);
+        }
     }
 
     /// Reads CSV text held in memory, shown under `name`.
@@ -332,6 +373,74 @@ impl Library {
         self.parts.push(part);
         Ok(())
     }
+}
+
+/// How far a load has come, updated by the loading thread and read by another: the
+/// workbench's gauge, the CLI's progress line. Counters only, so reading them never waits.
+#[derive(Debug, Default)]
+pub struct LoadProgress {
+    total_bytes: AtomicU64,
+    files_bytes: AtomicU64,
+    bytes: AtomicU64,
+    rows: AtomicU64,
+}
+
+impl LoadProgress {
+    /// A fresh counter, shared between the loader and its watcher.
+    #[must_use]
+    pub fn shared() -> Arc<LoadProgress> {
+        Arc::new(LoadProgress::default())
+    }
+
+    /// Bytes read so far, over all the files.
+    #[must_use]
+    pub fn bytes(&self) -> u64 {
+        self.bytes.load(Ordering::Relaxed)
+    }
+
+    /// Bytes in all the files to be read (0 until the load has looked at them).
+    #[must_use]
+    pub fn total_bytes(&self) -> u64 {
+        self.total_bytes.load(Ordering::Relaxed)
+    }
+
+    /// Data rows read so far.
+    #[must_use]
+    pub fn rows(&self) -> u64 {
+        self.rows.load(Ordering::Relaxed)
+    }
+
+    /// The share read, from 0 to 1 (0 while the size is not known).
+    #[must_use]
+    pub fn fraction(&self) -> f64 {
+        let total = self.total_bytes();
+        if total == 0 {
+            0.0
+        } else {
+            (self.bytes() as f64 / total as f64).clamp(0.0, 1.0)
+        }
+    }
+}
+
+/// Bytes in a library path: the file's size, or the sum of a folder's `*.csv` files; 0 when
+/// it cannot be read (the load itself then reports why).
+fn library_bytes(path: &Path) -> u64 {
+    let Ok(meta) = std::fs::metadata(path) else {
+        return 0;
+    };
+    if !meta.is_dir() {
+        return meta.len();
+    }
+    std::fs::read_dir(path).map_or(0, |entries| {
+        entries
+            .filter_map(Result::ok)
+            .map(|entry| entry.path())
+            .filter(|p| p.extension().is_some_and(|e| e.eq_ignore_ascii_case("csv")))
+            .filter_map(|p| std::fs::metadata(p).ok())
+            .filter(std::fs::Metadata::is_file)
+            .map(|m| m.len())
+            .sum()
+    })
 }
 
 /// A hash of a part number that ignores ASCII case.

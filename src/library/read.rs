@@ -247,6 +247,9 @@ fn read_records<R: Read>(
                     break;
                 }
                 library.rows += 1;
+                if library.rows % 8192 == 0 {
+                    library.report_progress(csv.position().byte());
+                }
                 // Validate the row's UTF-8 once (a single ASCII test for most rows) rather than
                 // cell by cell; a row that is not UTF-8 is read cell by cell as before.
                 match csv::StringRecord::from_byte_record(std::mem::take(&mut record)) {

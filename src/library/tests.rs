@@ -412,3 +412,35 @@ mod properties {
         }
     }
 }
+
+#[test]
+fn a_load_reports_its_progress_to_a_watcher() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("part,kind,vceo\n");
+    for i in 0..20_000 {
+        text.push_str(&format!("QP{i},npn,{} V\n", 20 + i % 50));
+    }
+    std::fs::write(dir.path().join("a.csv"), &text).unwrap();
+    std::fs::write(dir.path().join("b.csv"), &text.replace("QP", "QR")).unwrap();
+    let progress = LoadProgress::shared();
+    let watcher = Arc::clone(&progress);
+    let seen = std::thread::spawn(move || {
+        // The counters only ever grow while a load runs.
+        let mut last = 0;
+        for _ in 0..1000 {
+            let now = watcher.bytes();
+            assert!(now >= last, "{now} < {last}");
+            last = now;
+            std::thread::yield_now();
+        }
+    });
+    let library = Library::load_with_progress(&[dir.path()], Arc::clone(&progress)).unwrap();
+    seen.join().unwrap();
+    assert_eq!(library.parts.len(), 40_000);
+    let total = 2 * text.len() as u64;
+    assert_eq!(progress.total_bytes(), total);
+    assert_eq!(progress.bytes(), total);
+    assert_eq!(progress.rows(), 40_000);
+    assert!((progress.fraction() - 1.0).abs() < 1e-12);
+    assert_eq!(LoadProgress::default().fraction(), 0.0);
+}
