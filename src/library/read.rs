@@ -247,7 +247,7 @@ fn read_records<R: Read>(
                     break;
                 }
                 library.rows += 1;
-                if library.rows % 8192 == 0 {
+                if library.rows.is_multiple_of(8192) {
                     library.report_progress(csv.position().byte());
                 }
                 // Validate the row's UTF-8 once (a single ASCII test for most rows) rather than

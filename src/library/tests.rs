@@ -421,7 +421,7 @@ fn a_load_reports_its_progress_to_a_watcher() {
         text.push_str(&format!("QP{i},npn,{} V\n", 20 + i % 50));
     }
     std::fs::write(dir.path().join("a.csv"), &text).unwrap();
-    std::fs::write(dir.path().join("b.csv"), &text.replace("QP", "QR")).unwrap();
+    std::fs::write(dir.path().join("b.csv"), text.replace("QP", "QR")).unwrap();
     let progress = LoadProgress::shared();
     let watcher = Arc::clone(&progress);
     let seen = std::thread::spawn(move || {
