@@ -393,7 +393,17 @@ fn candidate(
     } else {
         checks::for_part_brief(stage, needs, role, part)
     };
-    let verdict = Verdict::of(&checks);
+    let mut candidate = judge(part, index, &checks);
+    if detail {
+        candidate.checks = checks;
+    }
+    Some(candidate)
+}
+
+/// A candidate's verdict, headroom and score from its checks; the checks themselves are not
+/// kept (the caller keeps them when it wants the detail).
+fn judge(part: &Part, index: usize, checks: &[Check]) -> Candidate {
+    let verdict = Verdict::of(checks);
     // Part rules (stock, status) are not ratings: a part's headroom is over its ratings only.
     let headroom = checks
         .iter()
@@ -402,19 +412,14 @@ fn candidate(
         .fold(None, |acc: Option<f64>, h| {
             Some(acc.map_or(h, |a| a.min(h)))
         });
-    let mut candidate = Candidate {
+    Candidate {
         part: index,
         verdict,
-        checks,
-        score: 0.0,
+        checks: Vec::new(),
+        score: rank::score_of(part, checks, headroom),
         headroom,
         rank: 0,
-    };
-    candidate.score = score(part, &candidate);
-    if !detail {
-        candidate.checks = Vec::new();
     }
-    Some(candidate)
 }
 
 /// Every candidate of `role`, evaluated on all cores for a large library.
@@ -425,37 +430,73 @@ fn candidates(
     role: Role,
     detail: bool,
 ) -> Vec<Candidate> {
-    let n = library.parts.len();
-    let threads = std::thread::available_parallelism()
-        .map_or(1, |t| t.get())
-        .min(8);
-    let scan = |range: std::ops::Range<usize>| -> Vec<Candidate> {
-        range
-            .filter_map(|i| candidate(stage, needs, library, role, i, detail))
-            .collect()
-    };
-    if threads < 2 || n < 50_000 {
-        return scan(0..n);
-    }
-    let chunk = n.div_ceil(threads);
-    std::thread::scope(|scope| {
-        let handles: Vec<_> = (0..threads)
-            .map(|t| {
-                let range = (t * chunk).min(n)..((t + 1) * chunk).min(n);
-                scope.spawn(move || scan(range))
-            })
+    if detail {
+        return (0..library.parts.len())
+            .filter_map(|i| candidate(stage, needs, library, role, i, true))
             .collect();
-        let mut all = Vec::new();
-        for handle in handles {
-            // A scan thread only evaluates parts and cannot panic on library data; should
-            // one fail anyway, its share is evaluated again on this thread.
-            match handle.join() {
-                Ok(part) => all.extend(part),
-                Err(_) => return scan(0..n),
-            }
+    }
+    let n = library.parts.len();
+    let threads = if n < 50_000 {
+        1
+    } else {
+        std::thread::available_parallelism()
+            .map_or(1, |t| t.get())
+            .min(8)
+    };
+    let chunk = n.div_ceil(threads).max(1);
+    // Count first, so the candidates are written straight into one vector of the right size,
+    // each thread into its own share: never a second copy of a million candidates.
+    let counts: Vec<usize> = library
+        .parts
+        .chunks(chunk)
+        .map(|parts| {
+            parts
+                .iter()
+                .filter(|p| kind_fits_role(stage, role, p.kind))
+                .count()
+        })
+        .collect();
+    let placeholder = Candidate {
+        part: 0,
+        verdict: Verdict::Short,
+        checks: Vec::new(),
+        score: 0.0,
+        headroom: None,
+        rank: 0,
+    };
+    let mut all = vec![placeholder; counts.iter().sum()];
+    let scan = |first: usize, parts: &[Part], out: &mut [Candidate]| {
+        // One buffer of checks for the whole share: no allocation a part.
+        let mut buffer = Vec::with_capacity(16);
+        let fitting = parts
+            .iter()
+            .enumerate()
+            .filter(|(_, p)| kind_fits_role(stage, role, p.kind));
+        for (slot, (i, part)) in out.iter_mut().zip(fitting) {
+            checks::brief_into(stage, needs, role, part, &mut buffer);
+            *slot = judge(part, first + i, &buffer);
         }
-        all
-    })
+    };
+    if threads == 1 {
+        scan(0, &library.parts, &mut all);
+        return all;
+    }
+    let finished = std::thread::scope(|scope| {
+        let mut rest: &mut [Candidate] = &mut all;
+        let mut handles = Vec::new();
+        for (t, (parts, &count)) in library.parts.chunks(chunk).zip(&counts).enumerate() {
+            let (share, tail) = rest.split_at_mut(count);
+            rest = tail;
+            handles.push(scope.spawn(move || scan(t * chunk, parts, share)));
+        }
+        // A scan thread only evaluates parts and cannot panic on library data; should one
+        // fail anyway, the whole role is evaluated again on this thread.
+        handles.into_iter().all(|h| h.join().is_ok())
+    });
+    if !finished {
+        scan(0, &library.parts, &mut all);
+    }
+    all
 }
 
 /// Evaluates every part of the library for every role of the stage and ranks each role by

@@ -10,8 +10,8 @@ pub mod part;
 mod read;
 
 pub use part::{
-    Bjt, ContactForm, Diode, Kind, Mosfet, Part, Photocell, Rating, Ratings, Relay, Source, Status,
-    Sym,
+    Bjt, ContactForm, Diode, Extras, Kind, Mosfet, Note, Part, Photocell, Rating, Ratings, Relay,
+    Source, Status, Sym, Text,
 };
 
 use std::collections::HashMap;
@@ -148,8 +148,13 @@ pub struct Library {
     progress: Option<Arc<LoadProgress>>,
     strings: Vec<Box<str>>,
     string_ids: HashMap<Box<str>, u32, BuildHasherDefault<Fnv>>,
-    index: HashMap<u64, u32, BuildHasherDefault<Fnv>>,
-    index_overflow: Vec<u32>,
+    /// Part indices by part number (hashed without regard to case): 4 bytes a part plus the
+    /// table's control bytes, where a map from hash to index would take 16.
+    index: hashbrown::HashTable<u32>,
+    /// Bytes in the file being read, when known: the reader sizes the tables from it.
+    pub(crate) size_hint: u64,
+    /// Each part's place in part-number order, found when first asked for.
+    number_order: std::sync::OnceLock<Vec<u32>>,
 }
 
 impl Library {
@@ -246,6 +251,7 @@ impl Library {
             source,
         })?;
         let reader = std::io::BufReader::with_capacity(256 * 1024, file);
+        self.size_hint = std::fs::metadata(path).map_or(0, |m| m.len());
         let result =
             read::read_reader(self, &path.display().to_string(), reader).map_err(|e| e.at(path));
         if let Some(progress) = &self.progress {
@@ -271,6 +277,7 @@ impl Library {
     /// # Errors
     /// As [`Library::load`].
     pub fn add_bytes(&mut self, name: &str, bytes: &[u8]) -> Result<(), LoadError> {
+        self.size_hint = bytes.len() as u64;
         read::read_bytes(self, name, bytes).map_err(|e| e.at(Path::new(name)))
     }
 
@@ -296,16 +303,60 @@ impl Library {
     #[must_use]
     pub fn find(&self, number: &str) -> Option<&Part> {
         let key = number.trim();
-        let hash = part_hash(key);
-        let matches = |&i: &u32| {
-            self.parts
-                .get(i as usize)
-                .filter(|p| p.number.eq_ignore_ascii_case(key))
-        };
         self.index
-            .get(&hash)
-            .and_then(matches)
-            .or_else(|| self.index_overflow.iter().find_map(matches))
+            .find(part_hash(key), |&i| {
+                self.parts
+                    .get(i as usize)
+                    .is_some_and(|p| p.number.eq_ignore_ascii_case(key))
+            })
+            .and_then(|&i| self.parts.get(i as usize))
+    }
+
+    /// Each part's place (0-based) when the parts are sorted by part number, byte by byte:
+    /// ranking breaks ties by part number, and comparing two integers is far cheaper than
+    /// comparing two numbers' texts a million times over. Found on first use and kept.
+    #[must_use]
+    pub fn number_order(&self) -> &[u32] {
+        self.number_order.get_or_init(|| {
+            // Sort by the first 12 bytes and the part's index packed in one integer (16 bytes
+            // a part while sorting), zero-padded so a shorter number sorts first as it does
+            // byte by byte; then by the whole text where those 12 bytes tie.
+            const PREFIX: usize = 12;
+            let key = |i: usize, number: &str| {
+                let mut bytes = [0u8; 16];
+                let n = number.len().min(PREFIX);
+                bytes[..n].copy_from_slice(&number.as_bytes()[..n]);
+                // At most `limits::MAX_ROWS` parts: the index fits the low 32 bits.
+                bytes[PREFIX..].copy_from_slice(&(i as u32).to_be_bytes());
+                u128::from_be_bytes(bytes)
+            };
+            let mut sorted: Vec<u128> = self
+                .parts
+                .iter()
+                .enumerate()
+                .map(|(i, p)| key(i, &p.number))
+                .collect();
+            sorted.sort_unstable();
+            let index = |k: u128| (k & u128::from(u32::MAX)) as usize;
+            let number = |k: u128| self.parts.get(index(k)).map_or("", |p| p.number.as_str());
+            let mut start = 0;
+            while start < sorted.len() {
+                let prefix = sorted[start] >> 32;
+                let mut end = start + 1;
+                while end < sorted.len() && sorted[end] >> 32 == prefix {
+                    end += 1;
+                }
+                if end - start > 1 {
+                    sorted[start..end].sort_unstable_by(|&a, &b| number(a).cmp(number(b)));
+                }
+                start = end;
+            }
+            let mut order = vec![0u32; self.parts.len()];
+            for (place, &k) in sorted.iter().enumerate() {
+                order[index(k)] = place as u32;
+            }
+            order
+        })
     }
 
     /// The file a part came from, as shown to the user.
@@ -356,22 +407,45 @@ impl Library {
         (self.extra_columns.len() - 1) as u32
     }
 
+    /// Makes room for `more` parts, so a large file's tables are sized once instead of
+    /// growing (and the number index rehashing) again and again.
+    pub(crate) fn reserve_parts(&mut self, more: usize) {
+        let more = more.min(self.row_limit().saturating_sub(self.parts.len()));
+        self.parts.reserve(more);
+        let parts = &self.parts;
+        self.index.reserve(more, |&i| {
+            parts.get(i as usize).map_or(0, |p| part_hash(&p.number))
+        });
+    }
+
     /// Adds a part unless its number is taken; gives back the holder of the number otherwise.
     pub(crate) fn push_part(&mut self, part: Part) -> Result<(), Source> {
-        if let Some(existing) = self.find(&part.number) {
-            return Err(existing.source);
-        }
+        let parts = &self.parts;
         let hash = part_hash(&part.number);
-        let id = self.parts.len() as u32;
-        match self.index.entry(hash) {
-            std::collections::hash_map::Entry::Vacant(slot) => {
-                slot.insert(id);
+        let entry = self.index.entry(
+            hash,
+            |&i| {
+                parts
+                    .get(i as usize)
+                    .is_some_and(|p| p.number.eq_ignore_ascii_case(&part.number))
+            },
+            // Growing the table hashes the numbers again: the parts are the only copy.
+            |&i| parts.get(i as usize).map_or(0, |p| part_hash(&p.number)),
+        );
+        match entry {
+            hashbrown::hash_table::Entry::Occupied(held) => {
+                let holder = *held.get() as usize;
+                // The index only holds indices of parts pushed before.
+                Err(parts.get(holder).map_or(part.source, |p| p.source))
             }
-            // A different number with the same hash: rare, kept in a short side list.
-            std::collections::hash_map::Entry::Occupied(_) => self.index_overflow.push(id),
+            hashbrown::hash_table::Entry::Vacant(slot) => {
+                // Row count is capped by `limits::MAX_ROWS`, far below u32::MAX.
+                slot.insert(parts.len() as u32);
+                self.parts.push(part);
+                self.number_order.take();
+                Ok(())
+            }
         }
-        self.parts.push(part);
-        Ok(())
     }
 }
 

@@ -227,12 +227,13 @@ mod properties {
     }
 }
 
-/// A large library keeps checks for its first places only; every other candidate's verdict,
-/// headroom and score are those of the full evaluation.
+/// A large library (evaluated on all cores) keeps checks for its first places only; every
+/// other candidate's verdict, headroom and score are those of the full evaluation, and every
+/// part that can fill the role is there once.
 #[test]
 fn large_libraries_rank_without_holding_every_check() {
     let mut text = Vec::new();
-    loadfit::synthetic::write_library(&mut text, 30_000, 3).unwrap();
+    loadfit::synthetic::write_library(&mut text, 60_000, 3).unwrap();
     let mut library = Library::new();
     library.add_bytes("big.csv", &text).unwrap();
     assert!(library.parts.len() > fit::FULL_DETAIL_PARTS);
@@ -262,4 +263,10 @@ fn large_libraries_rank_without_holding_every_check() {
         assert_eq!(filled.rank, c.rank);
     }
     assert!(role.needs.contains(&"switch.voltage"));
+    let mut held: Vec<usize> = role.candidates.iter().map(|c| c.part).collect();
+    held.sort_unstable();
+    let can: Vec<usize> = (0..library.parts.len())
+        .filter(|&i| fit::evaluate_part(&stage, &needs, &library, Role::Switch, i).is_some())
+        .collect();
+    assert_eq!(held, can);
 }

@@ -204,12 +204,29 @@ pub fn for_part_brief(stage: &Stage, needs: &Needs, role: Role, part: &Part) -> 
     collect(stage, needs, role, part, false)
 }
 
+/// As [`for_part_brief`], into `buffer` (cleared first): a ranking of a million parts reuses
+/// one buffer a thread instead of allocating a vector a part.
+pub fn brief_into(stage: &Stage, needs: &Needs, role: Role, part: &Part, buffer: &mut Vec<Check>) {
+    buffer.clear();
+    let mut out = Out {
+        checks: std::mem::take(buffer),
+        detail: false,
+    };
+    fill(stage, needs, role, part, &mut out);
+    *buffer = out.checks;
+}
+
 fn collect(stage: &Stage, needs: &Needs, role: Role, part: &Part, detail: bool) -> Vec<Check> {
     let mut out = Out {
         checks: Vec::with_capacity(8),
         detail,
     };
-    let checks = &mut out;
+    fill(stage, needs, role, part, &mut out);
+    out.checks
+}
+
+fn fill(stage: &Stage, needs: &Needs, role: Role, part: &Part, out: &mut Out) {
+    let checks = out;
     match role {
         Role::Switch => switch(stage, needs, part, checks),
         Role::Clamp => clamp(needs, part, checks),
@@ -218,7 +235,6 @@ fn collect(stage: &Stage, needs: &Needs, role: Role, part: &Part, detail: bool) 
         Role::Sensor => sensor(stage, needs, part, checks),
     }
     part_rules(stage, part, checks);
-    out.checks
 }
 
 /// PD derated at the ambient with the part's TJmax (150 °C when not given): the derating of

@@ -79,14 +79,20 @@ pub fn headroom_penalty(h: Option<f64>) -> f64 {
 /// The score of a candidate (see the module documentation), rounded to 0.1.
 #[must_use]
 pub fn score(part: &Part, candidate: &Candidate) -> f64 {
+    score_of(part, &candidate.checks, candidate.headroom)
+}
+
+/// The score of a part with these checks and this smallest headroom: [`score`] for a
+/// candidate whose checks are held elsewhere (a ranking of a large library reuses one buffer).
+#[must_use]
+pub fn score_of(part: &Part, checks: &[super::Check], headroom: Option<f64>) -> f64 {
     let status = match part.status {
         Status::Active => 0.0,
         Status::Nrnd => 15.0,
         Status::Unknown => 5.0,
         Status::Obsolete => 30.0,
     };
-    let quantity = candidate
-        .checks
+    let quantity = checks
         .iter()
         .find(|c| c.need == super::checks::ids_part::STOCK)
         .and_then(|c| c.required)
@@ -98,7 +104,7 @@ pub fn score(part: &Part, candidate: &Candidate) -> f64 {
         Some(_) => 0.0,
     };
     let price = part.price.get().map_or(8.0, |p| 6.0 * p.max(0.0).ln_1p());
-    let raw = 100.0 - status - stock - price - headroom_penalty(candidate.headroom);
+    let raw = 100.0 - status - stock - price - headroom_penalty(headroom);
     (raw * 10.0).round() / 10.0
 }
 
@@ -136,12 +142,81 @@ pub fn compare(library: &Library, a: &Candidate, b: &Candidate, key: SortKey) ->
         .then(a.part.cmp(&b.part))
 }
 
-/// Sorts candidates in place and numbers their ranks from 1.
+/// Sorts candidates in place and numbers their ranks from 1, in the order of [`compare`].
+///
+/// A million candidates are ranked on every edit in the workbench, so the order is not found
+/// by calling [`compare`]: each candidate gets a key of plain integers (group, the sort key's
+/// value as order-preserving bits, the part's place in part-number order from
+/// [`Library::number_order`]), the keys are sorted, and the candidates are moved into place
+/// once. A test holds this equal to sorting with [`compare`].
 pub fn rank(candidates: &mut [Candidate], library: &Library, key: SortKey) {
-    candidates.sort_by(|a, b| compare(library, a, b, key));
+    // One u128 a candidate, most significant first: group (2 bits), the sort key's value
+    // (64), the part's place in number order (23), the candidate's position (23). Places
+    // and positions are below `limits::MAX_ROWS` (5 000 000 < 2^23).
+    const BITS: u32 = 23;
+    const MASK: u128 = (1 << BITS) - 1;
+    const { assert!(crate::library::limits::MAX_ROWS < 1 << BITS) };
+    let order = library.number_order();
+    let mut keys: Vec<u128> = candidates
+        .iter()
+        .enumerate()
+        .map(|(i, c)| {
+            let part = library.parts.get(c.part);
+            let within = match key {
+                SortKey::Score => descending(Some(c.score)),
+                SortKey::Price => ascending(part.and_then(|p| p.price.get())),
+                SortKey::Headroom => descending(c.headroom),
+                SortKey::Stock => descending(part.and_then(|p| p.stock).map(f64::from)),
+                SortKey::Part => 0,
+            };
+            // Candidates index parts of this library; a stray index sorts last.
+            let place = order.get(c.part).map_or(MASK, |&p| u128::from(p) & MASK);
+            (u128::from(group(c.verdict)) << (64 + 2 * BITS))
+                | (u128::from(within) << (2 * BITS))
+                | (place << BITS)
+                | (i as u128 & MASK)
+        })
+        .collect();
+    keys.sort_unstable();
+    // Move each candidate to its place by following the cycles of the permutation:
+    // position j takes the candidate that was at `from(j)`; a visited position is marked by
+    // pointing at itself.
+    for start in 0..keys.len() {
+        let mut j = start;
+        loop {
+            let k = (keys[j] & MASK) as usize;
+            keys[j] = (keys[j] & !MASK) | j as u128;
+            if k == start {
+                break;
+            }
+            candidates.swap(j, k);
+            j = k;
+        }
+    }
     for (i, c) in candidates.iter_mut().enumerate() {
         c.rank = i + 1;
     }
+}
+
+/// Bits of `x` that sort as `x` does, lowest first; missing (or not a number) after all.
+fn ascending(x: Option<f64>) -> u64 {
+    match x {
+        Some(x) if !x.is_nan() => {
+            // −0 and +0 are the same value here, as they are to `partial_cmp`.
+            let bits = (x + 0.0).to_bits();
+            if bits >> 63 == 1 {
+                !bits
+            } else {
+                bits | (1 << 63)
+            }
+        }
+        _ => u64::MAX,
+    }
+}
+
+/// As [`ascending`], highest first; missing still last.
+fn descending(x: Option<f64>) -> u64 {
+    ascending(x.map(|x| -x))
 }
 
 #[cfg(test)]
@@ -155,6 +230,68 @@ mod tests {
         assert!((headroom_penalty(Some(8.0)) - 5.0).abs() < 1e-12);
         assert_eq!(headroom_penalty(Some(1e6)), 20.0);
         assert_eq!(headroom_penalty(None), 0.0);
+    }
+
+    #[test]
+    fn float_keys_keep_their_order() {
+        let values = [
+            f64::NEG_INFINITY,
+            -3.5,
+            -1e-300,
+            -0.0,
+            0.0,
+            1e-300,
+            2.0,
+            7e9,
+            f64::INFINITY,
+        ];
+        for pair in values.windows(2) {
+            assert!(
+                ascending(Some(pair[0])) <= ascending(Some(pair[1])),
+                "{pair:?}"
+            );
+            assert!(
+                descending(Some(pair[0])) >= descending(Some(pair[1])),
+                "{pair:?}"
+            );
+        }
+        assert_eq!(ascending(Some(-0.0)), ascending(Some(0.0)));
+        assert_eq!(ascending(None), u64::MAX);
+        assert_eq!(descending(None), u64::MAX);
+        assert_eq!(ascending(Some(f64::NAN)), u64::MAX);
+        assert!(ascending(Some(f64::INFINITY)) < u64::MAX);
+    }
+
+    /// The integer keys give the order of `compare` for every sort key, on a generated library
+    /// with many tied scores.
+    #[test]
+    fn ranking_by_keys_equals_sorting_by_compare() {
+        let mut text = Vec::new();
+        crate::synthetic::write_library(&mut text, 3000, 7).unwrap();
+        let mut library = Library::new();
+        library.add_bytes("gen.csv", &text).unwrap();
+        let stage = crate::stage::Stage::from_toml(
+            include_str!("../../data/stages/door-strike.toml"),
+            "door-strike.toml",
+        )
+        .unwrap();
+        let needs = crate::needs::compute(&stage, Some(&library));
+        for key in SortKey::ALL {
+            let fit = crate::fit::evaluate(&stage, &needs, &library, key);
+            for role in &fit.roles {
+                let mut expected = role.candidates.clone();
+                expected.sort_by(|a, b| compare(&library, a, b, key));
+                let got: Vec<usize> = role.candidates.iter().map(|c| c.part).collect();
+                let want: Vec<usize> = expected.iter().map(|c| c.part).collect();
+                assert_eq!(got, want, "{key:?} {:?}", role.role);
+                assert!(
+                    role.candidates
+                        .iter()
+                        .enumerate()
+                        .all(|(i, c)| c.rank == i + 1)
+                );
+            }
+        }
     }
 
     #[test]

@@ -2,6 +2,8 @@
 
 use std::fmt;
 
+pub use compact_str::CompactString as Text;
+
 /// A rating that may be missing. Held as `f64` with NaN for "not given" so a part stays
 /// compact (a million parts are held in memory); read it with [`Rating::get`].
 #[derive(Clone, Copy)]
@@ -442,11 +444,13 @@ pub struct Source {
     pub line: u32,
 }
 
-/// One part of the library.
+/// One part of the library. A million of these are held in memory, so the texts are
+/// [`Text`]s, stored inline up to 24 bytes (no allocation for a part number or a short note),
+/// and the rarely used columns sit behind one pointer.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Part {
     /// The part number, unique in the library.
-    pub number: Box<str>,
+    pub number: Text,
     /// What the part is.
     pub kind: Kind,
     /// Package name (TO-92, SOT-23 ...), interned: see [`super::Library::text`].
@@ -457,23 +461,91 @@ pub struct Part {
     pub maker: Sym,
     /// Unit price in the library's currency.
     pub price: Rating,
-    /// Units in stock.
-    pub stock: Option<u64>,
+    /// Units in stock (a count over `u32::MAX` is read as that, with a warning).
+    pub stock: Option<u32>,
     /// Production status.
     pub status: Status,
     /// RoHS compliance, when given.
     pub rohs: Option<bool>,
     /// Free text from the `notes` column.
-    pub notes: Box<str>,
+    pub notes: Note,
     /// Free text from the `tags` column.
-    pub tags: Box<str>,
+    pub tags: Text,
     /// The ratings of its kind.
     pub ratings: Ratings,
     /// Columns loadfit does not know, kept as (column index into
     /// [`super::Library::extra_columns`], text).
-    pub extra: Box<[(u32, Box<str>)]>,
+    pub extra: Extras,
     /// Where the row came from.
     pub source: Source,
+}
+
+/// A part's free-text note: empty in most rows, so it costs one null pointer in the part
+/// until it holds text. Reads as a `&str` (empty when there is none).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Note(Option<Box<Text>>);
+
+impl std::ops::Deref for Note {
+    type Target = str;
+    fn deref(&self) -> &str {
+        self.0.as_deref().map_or("", |t| t.as_str())
+    }
+}
+
+impl fmt::Display for Note {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self)
+    }
+}
+
+impl From<&str> for Note {
+    fn from(text: &str) -> Note {
+        if text.is_empty() {
+            Note(None)
+        } else {
+            Note(Some(Box::new(Text::from(text))))
+        }
+    }
+}
+
+impl serde::Serialize for Note {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.serialize_str(self)
+    }
+}
+
+/// The cells of a part's unknown columns: (column index into
+/// [`super::Library::extra_columns`], text). Most libraries have none, so an empty set costs
+/// one null pointer in the part.
+#[derive(Debug, Clone, PartialEq, Default)]
+// A thin pointer on purpose: `Vec` alone would take 24 bytes in every part.
+#[allow(clippy::box_collection)]
+pub struct Extras(Option<Box<Vec<ExtraCell>>>);
+
+/// One unknown-column cell: (column index into [`super::Library::extra_columns`], text).
+pub type ExtraCell = (u32, Box<str>);
+
+impl Extras {
+    /// The cells, in column order.
+    pub fn iter(&self) -> impl Iterator<Item = &(u32, Box<str>)> {
+        self.0.iter().flat_map(|cells| cells.iter())
+    }
+
+    /// Whether the part has no unknown-column cells.
+    #[must_use]
+    pub fn is_empty(&self) -> bool {
+        self.0.is_none()
+    }
+}
+
+impl From<Vec<(u32, Box<str>)>> for Extras {
+    fn from(cells: Vec<(u32, Box<str>)>) -> Extras {
+        if cells.is_empty() {
+            Extras(None)
+        } else {
+            Extras(Some(Box::new(cells)))
+        }
+    }
 }
 
 /// An interned string: an index into the library's string table. Packages, pinouts and makers
@@ -557,7 +629,7 @@ mod tests {
     fn ratings_stay_compact() {
         // A million parts are held in memory: keep a part within a few cache lines.
         assert!(
-            std::mem::size_of::<Part>() <= 208,
+            std::mem::size_of::<Part>() <= 200,
             "{}",
             std::mem::size_of::<Part>()
         );

@@ -4,7 +4,9 @@
 //! well-formed row allocates only the strings the part keeps.
 
 use super::columns::{Field, FieldSpec, header_scale, normalise_header};
-use super::part::{ContactForm, Kind, Part, Rating, Ratings, Source, Status, Sym};
+use super::part::{
+    ContactForm, Extras, Kind, Note, Part, Rating, Ratings, Source, Status, Sym, Text,
+};
 use super::{Diagnostic, Library, LoadError, limits, shorten};
 use crate::units::{self, Dim, ParseOptions};
 use std::borrow::Cow;
@@ -227,6 +229,10 @@ fn read_records<R: Read>(
         }
     }
     let mut state = plan_header(library, file, &record, delimiter)?;
+    // After this many rows the rest of the file's rows are estimated from its size.
+    const SAMPLE_ROWS: usize = 4096;
+    let first_row = library.rows;
+    let sample_from = csv.position().byte();
 
     loop {
         match csv.read_byte_record(&mut record) {
@@ -249,6 +255,12 @@ fn read_records<R: Read>(
                 library.rows += 1;
                 if library.rows.is_multiple_of(8192) {
                     library.report_progress(csv.position().byte());
+                }
+                if library.rows - first_row == SAMPLE_ROWS && library.size_hint > 0 {
+                    let sampled = csv.position().byte().saturating_sub(sample_from).max(1);
+                    let left = library.size_hint.saturating_sub(csv.position().byte());
+                    let estimate = left.saturating_mul(SAMPLE_ROWS as u64) / sampled;
+                    library.reserve_parts(usize::try_from(estimate).unwrap_or(usize::MAX));
                 }
                 // Validate the row's UTF-8 once (a single ASCII test for most rows) rather than
                 // cell by cell; a row that is not UTF-8 is read cell by cell as before.
@@ -768,7 +780,7 @@ fn read_row(
     }
     let kind = kind.unwrap_or(Kind::Npn);
     let mut part = Part {
-        number: number.into_boxed_str(),
+        number: number.into(),
         kind,
         package: Sym(0),
         pinout: Sym(0),
@@ -777,10 +789,10 @@ fn read_row(
         stock: None,
         status: Status::Unknown,
         rohs: None,
-        notes: Box::from(""),
-        tags: Box::from(""),
+        notes: Note::default(),
+        tags: Text::default(),
         ratings: Ratings::empty(kind),
-        extra: Box::new([]),
+        extra: Extras::default(),
         source: Source {
             file: state.file,
             line,
@@ -837,7 +849,7 @@ fn read_row(
             .unwrap_or(0);
         cell_warnings.push((index, String::new(), message));
     });
-    part.extra = extra.into_boxed_slice();
+    part.extra = extra.into();
     let number = part.number.clone();
     match library.push_part(part) {
         Ok(()) => {
@@ -929,10 +941,15 @@ fn apply(
                 Some(read_bool(cell).ok_or_else(|| format!("\"{cell}\" is not yes or no"))?);
         }
         Field::Stock => {
-            part.stock = Some(
-                read_stock(cell, state.semicolon)
-                    .ok_or_else(|| format!("\"{cell}\" is not a whole number of units"))?,
-            );
+            let stock = read_stock(cell, state.semicolon)
+                .ok_or_else(|| format!("\"{cell}\" is not a whole number of units"))?;
+            part.stock = Some(u32::try_from(stock).unwrap_or_else(|_| {
+                warn_cell(format!(
+                    "a stock of {stock} units is read as {}, the most loadfit holds",
+                    u32::MAX
+                ));
+                u32::MAX
+            }));
         }
         Field::Price => {
             let value = read_price(cell, state.options).ok_or_else(|| {
@@ -1020,6 +1037,10 @@ fn read_bool(cell: &str) -> Option<bool> {
 /// Reads a stock count, allowing thousands separators (`,` or `_` or spaces; `.` in
 /// `;`-delimited files, where the comma is the decimal mark).
 fn read_stock(cell: &str, semicolon: bool) -> Option<u64> {
+    if !cell.is_empty() && cell.bytes().all(|b| b.is_ascii_digit()) {
+        // Most cells are plain digits: no copy.
+        return cell.parse::<u64>().ok();
+    }
     let digits: String = cell
         .chars()
         .filter(|&c| {
