@@ -156,11 +156,51 @@ fn run(cli: Cli, out: &mut Output) -> Result<u8, CliError> {
 /// # Errors
 /// [`CliError::Load`] when a file cannot be read.
 pub fn load_parts(paths: &[PathBuf]) -> Result<Library, CliError> {
+    use std::io::IsTerminal;
     if paths.is_empty() {
-        Ok(Library::demo())
-    } else {
-        Ok(Library::load(paths)?)
+        return Ok(Library::demo());
     }
+    if !std::io::stderr().is_terminal() {
+        return Ok(Library::load(paths)?);
+    }
+    // On a terminal, a large library shows how far its load has come, on stderr so the
+    // output stays clean for pipes.
+    let progress = loadfit::library::LoadProgress::shared();
+    let watched = std::sync::Arc::clone(&progress);
+    let (done, finished) = std::sync::mpsc::channel::<()>();
+    let start = std::time::Instant::now();
+    let shown = std::thread::spawn(move || {
+        let mut drawn = false;
+        while finished
+            .recv_timeout(std::time::Duration::from_millis(150))
+            .is_err()
+        {
+            let line = load_line(&watched, start.elapsed().as_secs_f64());
+            eprint!("\r{line}\x1b[K");
+            drawn = true;
+        }
+        if drawn {
+            eprint!("\r\x1b[K");
+        }
+    });
+    let library = Library::load_with_progress(paths, progress);
+    // The watcher stops on this message or when the sender is dropped; either way it ends.
+    let _ = done.send(());
+    let _ = shown.join();
+    Ok(library?)
+}
+
+/// The progress line of a load: rows, megabytes of the total, and the rate.
+fn load_line(progress: &loadfit::library::LoadProgress, seconds: f64) -> String {
+    let mb = progress.bytes() as f64 / 1e6;
+    format!(
+        "loading parts: {} rows, {:.0} of {:.0} MB ({:.0} %), {:.0} MB/s",
+        progress.rows(),
+        mb,
+        progress.total_bytes() as f64 / 1e6,
+        progress.fraction() * 100.0,
+        if seconds > 0.0 { mb / seconds } else { 0.0 }
+    )
 }
 
 /// With no subcommand: the workbench in a terminal, a summary of the library otherwise.
@@ -205,4 +245,30 @@ fn summary(parts: &[PathBuf], out: &mut Output) -> Result<u8, CliError> {
     out.line(&loadfit::library::lint::summary(&library))?;
     out.line("run `loadfit --help` for the commands; `loadfit lint PATH` checks a library")?;
     Ok(0)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_progress_line_names_rows_megabytes_and_rate() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("p.csv");
+        let mut text = Vec::new();
+        loadfit::synthetic::write_library(&mut text, 2000, 5).unwrap();
+        std::fs::write(&path, &text).unwrap();
+        let progress = loadfit::library::LoadProgress::shared();
+        Library::load_with_progress(&[&path], std::sync::Arc::clone(&progress)).unwrap();
+        let line = load_line(&progress, 0.5);
+        let mb = text.len() as f64 / 1e6;
+        assert_eq!(
+            line,
+            format!(
+                "loading parts: 2000 rows, {mb:.0} of {mb:.0} MB (100 %), {:.0} MB/s",
+                mb / 0.5
+            )
+        );
+        assert!(load_line(&loadfit::library::LoadProgress::default(), 0.0).contains("0 rows"));
+    }
 }

@@ -1,7 +1,7 @@
 //! `loadfit lint PATH... [--format text|json]`: what loaded, what was rejected and why.
 
 use super::{CliError, Output};
-use loadfit::library::{Library, lint};
+use loadfit::library::lint;
 use std::path::PathBuf;
 
 /// Arguments of `lint`.
@@ -23,7 +23,7 @@ enum Format {
 
 /// Exit 0 when no row was rejected, 1 when some were, 2 when nothing could be read.
 pub fn run(args: &Args, out: &mut Output) -> Result<u8, CliError> {
-    let library = Library::load(&args.paths)?;
+    let library = super::load_parts(&args.paths)?;
     match args.format {
         Format::Text => {
             out.line(&lint::summary(&library))?;
