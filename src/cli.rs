@@ -213,7 +213,16 @@ fn workbench(
     if !std::io::stdout().is_terminal() || !std::io::stdin().is_terminal() {
         return summary(parts, out);
     }
-    let library = load_parts(parts)?;
+    // A large library is read in the background with a gauge, the demo library in use
+    // meanwhile; a small one is read at once (no flash of the demo).
+    let large = parts
+        .iter()
+        .any(|p| std::fs::metadata(p).is_ok_and(|m| m.is_dir() || m.len() > 4_000_000));
+    let library = if large {
+        Library::demo()
+    } else {
+        load_parts(parts)?
+    };
     let (text, name) = match stage {
         Some(path) => {
             // Read through the stage module first, for its checks and messages.
@@ -229,12 +238,15 @@ fn workbench(
         ),
     };
     let doc = loadfit::tui::fields::StageDoc::parse(&text, &name).map_err(CliError::Usage)?;
-    let app = loadfit::tui::app::App::new(
+    let mut app = loadfit::tui::app::App::new(
         library,
-        parts.to_vec(),
+        if large { Vec::new() } else { parts.to_vec() },
         doc,
         stage.map(std::path::Path::to_path_buf),
     );
+    if large {
+        app.start_load(parts.to_vec());
+    }
     loadfit::tui::run(app).map_err(CliError::Output)?;
     Ok(0)
 }

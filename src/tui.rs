@@ -109,7 +109,11 @@ fn event_loop(app: &mut App, stop: &AtomicBool) -> io::Result<()> {
         if stop.load(Ordering::Relaxed) || app.quit {
             return Ok(());
         }
-        let wait = if app.pending.is_some() { 30 } else { 200 };
+        let wait = if app.pending.is_some() || app.loading.is_some() {
+            30
+        } else {
+            200
+        };
         if !event::poll(Duration::from_millis(wait))? {
             app.poll_background();
             continue;

@@ -103,6 +103,38 @@ pub struct Search {
     pub typing: bool,
 }
 
+/// A library being read on a worker thread.
+pub struct Loading {
+    /// The files being read.
+    pub paths: Vec<PathBuf>,
+    /// How far the read has come.
+    pub progress: std::sync::Arc<crate::library::LoadProgress>,
+    /// When the read began, for the rate.
+    pub started: std::time::Instant,
+    receiver: std::sync::mpsc::Receiver<Result<Library, String>>,
+}
+
+impl Loading {
+    /// The gauge's words: rows read, megabytes of the total, megabytes a second.
+    #[must_use]
+    pub fn describe(&self) -> String {
+        describe_load(&self.progress, self.started.elapsed().as_secs_f64())
+    }
+}
+
+/// The words of a load's gauge after `seconds`: rows, MB of the total, MB/s.
+#[must_use]
+pub fn describe_load(progress: &crate::library::LoadProgress, seconds: f64) -> String {
+    let mb = progress.bytes() as f64 / 1e6;
+    format!(
+        "reading library: {} rows, {:.0} of {:.0} MB, {:.0} MB/s",
+        progress.rows(),
+        mb,
+        progress.total_bytes() as f64 / 1e6,
+        if seconds > 0.0 { mb / seconds } else { 0.0 }
+    )
+}
+
 /// The whole state of the workbench.
 pub struct App {
     /// The parts library.
@@ -171,6 +203,9 @@ pub struct App {
     /// A recomputation running in the background (large libraries): its number and where its
     /// result arrives. The screen shows the last result meanwhile and keys keep working.
     pub pending: Option<(u64, Results)>,
+    /// A library being read on a worker thread, shown as a gauge; the library on screen (the
+    /// built-in demo at start) stays usable meanwhile.
+    pub loading: Option<Loading>,
     generation: u64,
     /// Rows a page moves (set from the terminal height by the view).
     pub page: usize,
@@ -222,6 +257,7 @@ impl App {
             message: None,
             quit: false,
             pending: None,
+            loading: None,
             generation: 0,
             page: 10,
             visible: Vec::new(),
@@ -258,8 +294,9 @@ impl App {
 
     /// Takes in a background result if one has arrived; returns whether the screen changed.
     pub fn poll_background(&mut self) -> bool {
+        let loaded = self.poll_load(false);
         let Some((generation, receiver)) = &self.pending else {
-            return false;
+            return loaded;
         };
         match receiver.try_recv() {
             Ok((done, needs, fit)) if done == *generation => {
@@ -275,6 +312,92 @@ impl App {
                 true
             }
         }
+    }
+
+    /// Starts reading the library at `paths` on a worker thread; [`App::poll_background`]
+    /// puts it in place of the current one when it is read. Until then the workbench works on
+    /// the library it has, and the status line shows the load's progress.
+    pub fn start_load(&mut self, paths: Vec<PathBuf>) {
+        let progress = crate::library::LoadProgress::shared();
+        let (sender, receiver) = std::sync::mpsc::channel();
+        let worker_paths = paths.clone();
+        // Protected from exports from now on, before they are even read.
+        self.library_paths.clone_from(&paths);
+        let watched = std::sync::Arc::clone(&progress);
+        std::thread::spawn(move || {
+            let result =
+                Library::load_with_progress(&worker_paths, watched).map_err(|e| e.to_string());
+            // The workbench may have ended: a library nobody waits for is dropped.
+            let _ = sender.send(result);
+        });
+        self.loading = Some(Loading {
+            paths,
+            progress,
+            started: std::time::Instant::now(),
+            receiver,
+        });
+    }
+
+    /// Takes in a library whose load has finished, if one has; returns whether it did.
+    fn poll_load(&mut self, wait: bool) -> bool {
+        let Some(loading) = &self.loading else {
+            return false;
+        };
+        let result = if wait {
+            loading
+                .receiver
+                .recv()
+                .map_err(|_| std::sync::mpsc::TryRecvError::Disconnected)
+        } else {
+            loading.receiver.try_recv()
+        };
+        let outcome = match result {
+            Ok(outcome) => outcome,
+            Err(std::sync::mpsc::TryRecvError::Empty) => return false,
+            Err(std::sync::mpsc::TryRecvError::Disconnected) => {
+                Err("the loading thread ended without a library".to_string())
+            }
+        };
+        // `self.loading` was just seen to be `Some`.
+        let Some(loading) = self.loading.take() else {
+            return false;
+        };
+        match outcome {
+            Ok(library) => {
+                let kept = self.shortlist.len();
+                // Shortlist, swap and traces point at parts of the old library.
+                self.shortlist = Shortlist::default();
+                self.swap = None;
+                self.trace_part = None;
+                self.parts_cursor = 0;
+                self.library_cursor = 0;
+                self.message = Some(format!(
+                    "library read: {} parts, {} rows rejected, in {:.1} s{}",
+                    library.parts.len(),
+                    library.rows_rejected,
+                    loading.started.elapsed().as_secs_f64(),
+                    if kept > 0 {
+                        "; the shortlist of the demo library was cleared"
+                    } else {
+                        ""
+                    }
+                ));
+                self.library = std::sync::Arc::new(library);
+                self.library_paths = loading.paths;
+                self.recompute();
+            }
+            Err(error) => {
+                self.message = Some(format!(
+                    "could not read the library: {error}; the built-in demo library stays"
+                ));
+            }
+        }
+        true
+    }
+
+    /// Waits for a library load to finish and takes it in (for tests and scripted use).
+    pub fn wait_for_load(&mut self) {
+        self.poll_load(true);
     }
 
     /// Waits for a background recomputation to finish (for tests and scripted use).

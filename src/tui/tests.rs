@@ -435,3 +435,70 @@ fn a_large_library_is_recomputed_in_the_background() {
     assert!(app.needs.value("switch.voltage").unwrap() > before);
     assert!(app.pending.is_none());
 }
+
+#[test]
+fn a_library_loads_in_the_background_while_the_demo_stays_usable() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("big.csv");
+    let mut text = Vec::new();
+    crate::synthetic::write_library(&mut text, 30_000, 9).unwrap();
+    std::fs::write(&path, &text).unwrap();
+    let doc = StageDoc::parse(super::DEMO_STAGE, "mains-pump-relay.toml").unwrap();
+    let mut app = App::new(Library::demo(), Vec::new(), doc, None);
+    let demo_parts = app.library.parts.len();
+    app.start_load(vec![path.clone()]);
+    assert!(app.loading.is_some());
+    // The file is protected from exports before it is read.
+    assert_eq!(app.library_paths, vec![path.clone()]);
+    // Keys keep working on the library at hand while the load runs.
+    app.update(Action::Panel(2));
+    assert_eq!(app.panel, super::app::Panel::Parts);
+    let screen = render(&app, 140, 32);
+    // Nothing takes the finished load in until it is polled, so the gauge is on screen.
+    assert!(screen.contains("reading library"), "{screen}");
+    app.wait_for_load();
+    app.wait_for_background();
+    assert!(app.loading.is_none());
+    assert!(app.library.parts.len() > 29_000 && app.library.parts.len() != demo_parts);
+    assert!(
+        app.message
+            .as_deref()
+            .unwrap_or("")
+            .starts_with("library read: ")
+    );
+    assert!(!app.fit.roles.is_empty());
+    assert!(
+        app.fit.roles[0]
+            .candidates
+            .iter()
+            .all(|c| c.part < app.library.parts.len())
+    );
+    assert!(!render(&app, 140, 32).contains("reading library"));
+}
+
+#[test]
+fn a_failed_background_load_keeps_the_demo_and_says_why() {
+    let doc = StageDoc::parse(super::DEMO_STAGE, "mains-pump-relay.toml").unwrap();
+    let mut app = App::new(Library::demo(), Vec::new(), doc, None);
+    let demo_parts = app.library.parts.len();
+    app.start_load(vec![std::path::PathBuf::from("/nonexistent/parts.csv")]);
+    app.wait_for_load();
+    assert!(app.loading.is_none());
+    assert_eq!(app.library.parts.len(), demo_parts);
+    let message = app.message.clone().unwrap_or_default();
+    assert!(
+        message.contains("could not read the library")
+            && message.contains("/nonexistent/parts.csv")
+            && message.contains("demo library stays"),
+        "{message}"
+    );
+}
+
+#[test]
+fn the_load_gauge_names_rows_megabytes_and_rate() {
+    let progress = crate::library::LoadProgress::default();
+    assert_eq!(
+        super::app::describe_load(&progress, 1.0),
+        "reading library: 0 rows, 0 of 0 MB, 0 MB/s"
+    );
+}

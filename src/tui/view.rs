@@ -830,6 +830,20 @@ fn status(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
         },
         app.shortlist.len()
     );
+    let area = match &app.loading {
+        Some(loading) => {
+            let [text_area, gauge_area] =
+                Layout::horizontal([Constraint::Percentage(45), Constraint::Percentage(55)])
+                    .areas(area);
+            let gauge = ratatui::widgets::LineGauge::default()
+                .ratio(loading.progress.fraction())
+                .label(loading.describe())
+                .style(theme.selected());
+            frame.render_widget(gauge, gauge_area);
+            text_area
+        }
+        None => area,
+    };
     frame.render_widget(Paragraph::new(text).style(theme.selected()), area);
 }
 
