@@ -60,6 +60,7 @@ fn search_key(bencher: divan::Bencher, rows: u64) {
         // One key of a search from an empty query: the slowest case, nothing to narrow from.
         app.update(Action::StartSearch);
         app.update(Action::Type('c'));
+        app.wait_for_search();
         let shown = app.visible().len();
         app.update(Action::Back);
         divan::black_box(shown)

@@ -109,7 +109,7 @@ fn event_loop(app: &mut App, stop: &AtomicBool) -> io::Result<()> {
         if stop.load(Ordering::Relaxed) || app.quit {
             return Ok(());
         }
-        let wait = if app.pending.is_some() || app.loading.is_some() {
+        let wait = if app.pending.is_some() || app.loading.is_some() || app.searching.is_some() {
             30
         } else {
             200

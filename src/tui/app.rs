@@ -203,6 +203,11 @@ pub struct App {
     /// A recomputation running in the background (large libraries): its number and where its
     /// result arrives. The screen shows the last result meanwhile and keys keep working.
     pub pending: Option<(u64, Results)>,
+    /// A search running on worker threads (a large candidate list): its number and where its
+    /// hits arrive. The last hits stay on screen meanwhile.
+    pub searching: Option<(u64, SearchResults)>,
+    /// The number of the newest search; a worker stops when it is no longer the newest.
+    search_generation: std::sync::Arc<std::sync::atomic::AtomicU64>,
     /// A library being read on a worker thread, shown as a gauge; the library on screen (the
     /// built-in demo at start) stays usable meanwhile.
     pub loading: Option<Loading>,
@@ -257,6 +262,8 @@ impl App {
             message: None,
             quit: false,
             pending: None,
+            searching: None,
+            search_generation: std::sync::Arc::default(),
             loading: None,
             generation: 0,
             page: 10,
@@ -294,7 +301,7 @@ impl App {
 
     /// Takes in a background result if one has arrived; returns whether the screen changed.
     pub fn poll_background(&mut self) -> bool {
-        let loaded = self.poll_load(false);
+        let loaded = self.poll_load(false) | self.poll_search(false);
         let Some((generation, receiver)) = &self.pending else {
             return loaded;
         };
@@ -508,37 +515,116 @@ impl App {
                 && query.starts_with(last.as_str())
         });
         let base: Vec<usize> = if narrowing {
-            std::mem::take(&mut self.visible)
+            self.visible.clone()
         } else {
             (0..role.candidates.len()).collect()
         };
-        let lower = query.to_lowercase();
-        let library = &self.library;
-        let matcher = &self.matcher;
-        self.visible = base
+        let generation = self
+            .search_generation
+            .fetch_add(1, std::sync::atomic::Ordering::Relaxed)
+            + 1;
+        if query.is_empty() || base.len() <= BACKGROUND_PARTS {
+            self.searching = None;
+            self.visible = matching(
+                &self.library,
+                role,
+                base,
+                self.only_fits,
+                &query,
+                &self.matcher,
+                None,
+            )
+            .unwrap_or_default();
+            self.last_filter = Some((self.role, self.only_fits, query));
+            self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
+            return;
+        }
+        // A large list is searched on both cores off the UI thread; the keys keep working and
+        // a newer key stops this search (it checks `search_generation` as it goes). The hits
+        // on screen stay while it runs when they are hits of a shorter query; otherwise they
+        // belong to another role or an older fit and are cleared.
+        if !narrowing {
+            self.visible.clear();
+            self.parts_cursor = 0;
+        }
+        let items: Vec<(usize, usize)> = base
             .into_iter()
-            .filter(|&i| {
-                let c = &role.candidates[i];
-                (!self.only_fits || c.verdict == Verdict::Fits)
-                    && (query.is_empty()
-                        || (could_match(library, c.part, &lower)
-                            && matcher
-                                .fuzzy_match(&search_text(library, c.part), &query)
-                                .is_some()))
-            })
+            .filter_map(|i| role.candidates.get(i).map(|c| (i, c.part)))
+            .filter(|&(i, _)| !self.only_fits || role.candidates[i].verdict == Verdict::Fits)
             .collect();
-        self.last_filter = Some((self.role, self.only_fits, query));
-        self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
+        let library = std::sync::Arc::clone(&self.library);
+        let newest = std::sync::Arc::clone(&self.search_generation);
+        let (sender, receiver) = std::sync::mpsc::channel();
+        let filter = (self.role, self.only_fits, query.clone());
+        std::thread::spawn(move || {
+            if let Some(hits) = search_parts(&library, &items, &query, generation, &newest) {
+                // The workbench may have moved on or ended: hits nobody waits for are dropped.
+                let _ = sender.send((generation, filter, hits));
+            }
+        });
+        self.searching = Some((generation, receiver));
+    }
+
+    /// Takes in a background search's hits if they have arrived; returns whether they did.
+    fn poll_search(&mut self, wait: bool) -> bool {
+        let Some((generation, receiver)) = &self.searching else {
+            return false;
+        };
+        let result = if wait {
+            receiver
+                .recv()
+                .map_err(|_| std::sync::mpsc::TryRecvError::Disconnected)
+        } else {
+            receiver.try_recv()
+        };
+        match result {
+            Ok((done, filter, hits)) if done == *generation => {
+                self.searching = None;
+                self.visible = hits;
+                self.last_filter = Some(filter);
+                self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
+                true
+            }
+            Ok(_) | Err(std::sync::mpsc::TryRecvError::Empty) => false,
+            Err(std::sync::mpsc::TryRecvError::Disconnected) => {
+                self.searching = None;
+                false
+            }
+        }
+    }
+
+    /// Waits for a background search to finish and takes its hits in (for tests and benches).
+    pub fn wait_for_search(&mut self) {
+        while self.searching.is_some() {
+            if !self.poll_search(true) && self.searching.is_some() {
+                // Only a disconnected worker gives nothing; it has cleared `searching`.
+                break;
+            }
+        }
     }
 
     /// The visible list made from every candidate, not narrowed from the last (for tests).
     #[must_use]
-    pub fn visible_from_scratch(&mut self) -> Vec<usize> {
-        let kept = (self.visible.clone(), self.last_filter.take());
-        self.refilter();
-        let fresh = self.visible.clone();
-        (self.visible, self.last_filter) = kept;
-        fresh
+    pub fn visible_from_scratch(&self) -> Vec<usize> {
+        let Some(role) = self.fit.roles.get(self.role) else {
+            return Vec::new();
+        };
+        let query = self
+            .search
+            .as_ref()
+            .map(|s| s.query.trim().to_string())
+            .unwrap_or_default();
+        let all = (0..role.candidates.len()).collect();
+        matching(
+            &self.library,
+            role,
+            all,
+            self.only_fits,
+            &query,
+            &self.matcher,
+            None,
+        )
+        .unwrap_or_default()
     }
 
     /// Indices into the selected role's candidates that the Parts panel shows.
@@ -1148,6 +1234,10 @@ impl App {
     }
 }
 
+/// Where a background search's hits arrive: its number, the filter it was made for (role,
+/// fits-only, query) and the hits.
+pub type SearchResults = std::sync::mpsc::Receiver<(u64, (usize, bool, String), Vec<usize>)>;
+
 /// Where a background recomputation's result arrives: its number, the needs and the fit.
 pub type Results = std::sync::mpsc::Receiver<(u64, Needs, Fit)>;
 
@@ -1176,6 +1266,88 @@ fn evaluate(
 pub fn autosave_path_for(stage: &std::path::Path) -> Option<PathBuf> {
     let name = stage.file_name()?.to_string_lossy();
     Some(stage.with_file_name(format!(".{name}.autosave")))
+}
+
+/// The candidates of `base` (indices into `role`'s candidates) that pass the fits-only filter
+/// and match `query`, in their ranked order. `None` when `stop` says a newer search began.
+fn matching(
+    library: &Library,
+    role: &fit::RoleFit,
+    base: Vec<usize>,
+    only_fits: bool,
+    query: &str,
+    matcher: &SkimMatcherV2,
+    stop: Option<&dyn Fn() -> bool>,
+) -> Option<Vec<usize>> {
+    let lower = query.to_lowercase();
+    let mut hits = Vec::new();
+    for (n, i) in base.into_iter().enumerate() {
+        if n % 4096 == 0 && stop.is_some_and(|stop| stop()) {
+            return None;
+        }
+        let Some(c) = role.candidates.get(i) else {
+            continue;
+        };
+        if (!only_fits || c.verdict == Verdict::Fits)
+            && (query.is_empty()
+                || (could_match(library, c.part, &lower)
+                    && matcher
+                        .fuzzy_match(&search_text(library, c.part), query)
+                        .is_some()))
+        {
+            hits.push(i);
+        }
+    }
+    Some(hits)
+}
+
+/// The items (candidate index, part index) whose part matches `query`, in order, searched on
+/// every core; `None` when search `generation` is no longer the `newest`.
+fn search_parts(
+    library: &Library,
+    items: &[(usize, usize)],
+    query: &str,
+    generation: u64,
+    newest: &std::sync::atomic::AtomicU64,
+) -> Option<Vec<usize>> {
+    let lower = query.to_lowercase();
+    let stale = || newest.load(std::sync::atomic::Ordering::Relaxed) != generation;
+    let threads = std::thread::available_parallelism()
+        .map_or(1, |t| t.get())
+        .clamp(1, 8);
+    let chunk = items.len().div_ceil(threads).max(1);
+    let scan = |share: &[(usize, usize)]| -> Option<Vec<usize>> {
+        let matcher = SkimMatcherV2::default();
+        let mut hits = Vec::new();
+        for (n, &(i, part)) in share.iter().enumerate() {
+            if n % 4096 == 0 && stale() {
+                return None;
+            }
+            if could_match(library, part, &lower)
+                && matcher
+                    .fuzzy_match(&search_text(library, part), query)
+                    .is_some()
+            {
+                hits.push(i);
+            }
+        }
+        Some(hits)
+    };
+    let shares: Vec<Option<Vec<usize>>> = std::thread::scope(|scope| {
+        let handles: Vec<_> = items
+            .chunks(chunk)
+            .map(|share| scope.spawn(move || scan(share)))
+            .collect();
+        handles
+            .into_iter()
+            .map(|h| h.join().unwrap_or(None))
+            .collect()
+    });
+    let mut hits = Vec::new();
+    for share in shares {
+        hits.extend(share?);
+    }
+    (!stale()).then_some(hits)
 }
 
 /// Whether the letters of `lower` (a lower-case query, spaces ignored) appear in order in the

@@ -502,3 +502,50 @@ fn the_load_gauge_names_rows_megabytes_and_rate() {
         "reading library: 0 rows, 0 of 0 MB, 0 MB/s"
     );
 }
+
+#[test]
+fn a_large_list_is_searched_off_the_ui_thread_with_the_same_hits() {
+    let mut text = Vec::new();
+    crate::synthetic::write_library(&mut text, 160_000, 11).unwrap();
+    let mut library = Library::new();
+    library.add_bytes("big.csv", &text).unwrap();
+    let doc = StageDoc::parse(
+        include_str!("../../data/stages/door-strike.toml"),
+        "door-strike.toml",
+    )
+    .unwrap();
+    let mut app = App::new(library, Vec::new(), doc, None);
+    app.wait_for_background();
+    app.update(Action::Panel(3));
+    let role = app
+        .fit
+        .roles
+        .iter()
+        .position(|r| r.candidates.len() > super::app::BACKGROUND_PARTS)
+        .expect("a role with a large candidate list");
+    app.role = role;
+    app.refilter();
+    app.update(Action::StartSearch);
+    for (typed, c) in "lx3".chars().enumerate() {
+        app.update(Action::Type(c));
+        // The first key searches every candidate on a worker; later keys narrow from its
+        // hits, on a worker only while those are many.
+        if typed == 0 {
+            assert!(
+                app.searching.is_some(),
+                "the first key searches on a worker"
+            );
+        }
+        app.wait_for_search();
+        assert!(app.searching.is_none());
+        assert_eq!(app.visible(), app.visible_from_scratch().as_slice());
+    }
+    // A key typed while a search runs makes the older search's hits stale: only the newest
+    // query's hits are taken in.
+    app.update(Action::Backspace);
+    app.update(Action::Type('7'));
+    app.wait_for_search();
+    assert_eq!(app.visible(), app.visible_from_scratch().as_slice());
+    assert_eq!(app.search.as_ref().map(|s| s.query.as_str()), Some("lx7"));
+    assert!(!render(&app, 140, 32).contains("searching"));
+}

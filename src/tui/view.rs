@@ -825,6 +825,8 @@ fn status(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect) {
         if app.dirty { " [unsaved edits]" } else { "" },
         if app.pending.is_some() {
             " │ recomputing…"
+        } else if app.searching.is_some() {
+            " │ searching…"
         } else {
             ""
         },
