@@ -192,14 +192,13 @@ pub fn load_parts(paths: &[PathBuf]) -> Result<Library, CliError> {
 
 /// The progress line of a load: rows, megabytes of the total, and the rate.
 fn load_line(progress: &loadfit::library::LoadProgress, seconds: f64) -> String {
-    let mb = progress.bytes() as f64 / 1e6;
     format!(
         "loading parts: {} rows, {:.0} of {:.0} MB ({:.0} %), {:.0} MB/s",
         progress.rows(),
-        mb,
+        progress.bytes() as f64 / 1e6,
         progress.total_bytes() as f64 / 1e6,
         progress.fraction() * 100.0,
-        if seconds > 0.0 { mb / seconds } else { 0.0 }
+        progress.rate(seconds)
     )
 }
 

@@ -484,6 +484,16 @@ impl LoadProgress {
         self.rows.load(Ordering::Relaxed)
     }
 
+    /// Megabytes (10^6 bytes) read a second over `seconds` of loading (0 before any time).
+    #[must_use]
+    pub fn rate(&self, seconds: f64) -> f64 {
+        if seconds > 0.0 {
+            self.bytes() as f64 / 1e6 / seconds
+        } else {
+            0.0
+        }
+    }
+
     /// The share read, from 0 to 1 (0 while the size is not known).
     #[must_use]
     pub fn fraction(&self) -> f64 {

@@ -125,13 +125,12 @@ impl Loading {
 /// The words of a load's gauge after `seconds`: rows, MB of the total, MB/s.
 #[must_use]
 pub fn describe_load(progress: &crate::library::LoadProgress, seconds: f64) -> String {
-    let mb = progress.bytes() as f64 / 1e6;
     format!(
         "reading library: {} rows, {:.0} of {:.0} MB, {:.0} MB/s",
         progress.rows(),
-        mb,
+        progress.bytes() as f64 / 1e6,
         progress.total_bytes() as f64 / 1e6,
-        if seconds > 0.0 { mb / seconds } else { 0.0 }
+        progress.rate(seconds)
     )
 }
 
@@ -532,9 +531,7 @@ impl App {
                 self.only_fits,
                 &query,
                 &self.matcher,
-                None,
-            )
-            .unwrap_or_default();
+            );
             self.last_filter = Some((self.role, self.only_fits, query));
             self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
             return;
@@ -547,10 +544,13 @@ impl App {
             self.visible.clear();
             self.parts_cursor = 0;
         }
+        let only_fits = self.only_fits;
         let items: Vec<(usize, usize)> = base
             .into_iter()
-            .filter_map(|i| role.candidates.get(i).map(|c| (i, c.part)))
-            .filter(|&(i, _)| !self.only_fits || role.candidates[i].verdict == Verdict::Fits)
+            .filter_map(|i| {
+                let c = role.candidates.get(i)?;
+                (!only_fits || c.verdict == Verdict::Fits).then_some((i, c.part))
+            })
             .collect();
         let library = std::sync::Arc::clone(&self.library);
         let newest = std::sync::Arc::clone(&self.search_generation);
@@ -595,12 +595,8 @@ impl App {
 
     /// Waits for a background search to finish and takes its hits in (for tests and benches).
     pub fn wait_for_search(&mut self) {
-        while self.searching.is_some() {
-            if !self.poll_search(true) && self.searching.is_some() {
-                // Only a disconnected worker gives nothing; it has cleared `searching`.
-                break;
-            }
-        }
+        // Each search has its own channel: the one result it can bring is this search's.
+        self.poll_search(true);
     }
 
     /// The visible list made from every candidate, not narrowed from the last (for tests).
@@ -622,9 +618,7 @@ impl App {
             self.only_fits,
             &query,
             &self.matcher,
-            None,
         )
-        .unwrap_or_default()
     }
 
     /// Indices into the selected role's candidates that the Parts panel shows.
@@ -1269,7 +1263,7 @@ pub fn autosave_path_for(stage: &std::path::Path) -> Option<PathBuf> {
 }
 
 /// The candidates of `base` (indices into `role`'s candidates) that pass the fits-only filter
-/// and match `query`, in their ranked order. `None` when `stop` says a newer search began.
+/// and match `query`, in their ranked order.
 fn matching(
     library: &Library,
     role: &fit::RoleFit,
@@ -1277,28 +1271,31 @@ fn matching(
     only_fits: bool,
     query: &str,
     matcher: &SkimMatcherV2,
-    stop: Option<&dyn Fn() -> bool>,
-) -> Option<Vec<usize>> {
+) -> Vec<usize> {
     let lower = query.to_lowercase();
-    let mut hits = Vec::new();
-    for (n, i) in base.into_iter().enumerate() {
-        if n % 4096 == 0 && stop.is_some_and(|stop| stop()) {
-            return None;
-        }
-        let Some(c) = role.candidates.get(i) else {
-            continue;
-        };
-        if (!only_fits || c.verdict == Verdict::Fits)
-            && (query.is_empty()
-                || (could_match(library, c.part, &lower)
-                    && matcher
-                        .fuzzy_match(&search_text(library, c.part), query)
-                        .is_some()))
-        {
-            hits.push(i);
-        }
-    }
-    Some(hits)
+    base.into_iter()
+        .filter(|&i| {
+            role.candidates.get(i).is_some_and(|c| {
+                (!only_fits || c.verdict == Verdict::Fits)
+                    && (query.is_empty() || part_matches(library, matcher, c.part, query, &lower))
+            })
+        })
+        .collect()
+}
+
+/// Whether a part matches a non-empty query: the cheap subsequence test first, then the
+/// fuzzy scorer. The one test of the search, on the UI thread and on the workers alike.
+fn part_matches(
+    library: &Library,
+    matcher: &SkimMatcherV2,
+    part: usize,
+    query: &str,
+    lower: &str,
+) -> bool {
+    could_match(library, part, lower)
+        && matcher
+            .fuzzy_match(&search_text(library, part), query)
+            .is_some()
 }
 
 /// The items (candidate index, part index) whose part matches `query`, in order, searched on
@@ -1323,11 +1320,7 @@ fn search_parts(
             if n % 4096 == 0 && stale() {
                 return None;
             }
-            if could_match(library, part, &lower)
-                && matcher
-                    .fuzzy_match(&search_text(library, part), query)
-                    .is_some()
-            {
+            if part_matches(library, &matcher, part, query, &lower) {
                 hits.push(i);
             }
         }
