@@ -79,6 +79,7 @@ pub fn run(mut app: App) -> io::Result<()> {
     ] {
         signal_hook::flag::register(signal, Arc::clone(&stop))?;
     }
+    watch_for_a_stuck_loop()?;
     let previous = std::panic::take_hook();
     std::panic::set_hook(Box::new(move |info| {
         restore_terminal();
@@ -89,6 +90,35 @@ pub fn run(mut app: App) -> io::Result<()> {
     let result = event_loop(&mut app, &stop);
     restore_terminal();
     result
+}
+
+/// How long the event loop has to end after a signal before the watcher ends the process.
+const SIGNAL_GRACE: Duration = Duration::from_secs(2);
+
+/// Ends the process shortly after a SIGTERM, SIGHUP or SIGINT if the event loop has not ended
+/// by then. Once its terminal has gone (the tmux pane or the SSH link closed), crossterm's input
+/// poll reads end-of-file and retries without returning, so the loop never sees the stop flag;
+/// without this the workbench would spin on a core until killed. Stage edits are autosaved as
+/// they are made, so ending here loses nothing.
+fn watch_for_a_stuck_loop() -> io::Result<()> {
+    use signal_hook::consts::{SIGHUP, SIGINT, SIGTERM};
+    let mut signals = signal_hook::iterator::Signals::new([SIGTERM, SIGHUP, SIGINT])?;
+    std::thread::Builder::new()
+        .name("loadfit-signals".to_string())
+        .spawn(move || {
+            if let Some(signal) = signals.forever().next() {
+                // A loop that is not stuck ends well within this and takes the process with it.
+                std::thread::sleep(SIGNAL_GRACE);
+                // Standard output is locked by the main thread for the whole run: the terminal
+                // is put back through /dev/tty instead (if it is still there).
+                let _ = terminal::disable_raw_mode();
+                if let Ok(mut tty) = std::fs::OpenOptions::new().write(true).open("/dev/tty") {
+                    let _ = execute!(tty, terminal::LeaveAlternateScreen, cursor::Show);
+                }
+                std::process::exit(128 + signal);
+            }
+        })?;
+    Ok(())
 }
 
 fn event_loop(app: &mut App, stop: &AtomicBool) -> io::Result<()> {
