@@ -11,7 +11,7 @@ pub mod checks;
 pub mod rank;
 pub mod report;
 
-use crate::library::{Kind, Library, Part};
+use crate::library::{Kind, Library, Part, Ratings};
 use crate::needs::{Bound, Needs};
 use crate::stage::{ClampType, DriveSource, LoadType, Stage, SwitchType};
 use crate::units::Dim;
@@ -216,19 +216,78 @@ impl Verdict {
     /// pass).
     #[must_use]
     pub fn of(checks: &[Check]) -> Verdict {
-        let shorts: Vec<&Check> = checks
-            .iter()
-            .filter(|c| c.verdict == CheckVerdict::Short)
-            .collect();
-        let unknown = checks.iter().any(|c| c.verdict == CheckVerdict::Unknown);
-        match shorts.as_slice() {
-            [] if !unknown => Verdict::Fits,
-            [] => Verdict::Unknown,
-            [one] if !unknown && one.shortfall().is_some_and(|s| s <= NEAR_MISS + 1e-12) => {
-                Verdict::Near
+        Tally::of(checks).verdict()
+    }
+}
+
+/// What ranking takes from a part's checks, gathered one check at a time: how many are short
+/// and by how much the first falls short, whether a rating is missing, the smallest headroom
+/// over the ratings and the quantity the stock is held against. A million-part ranking keeps
+/// this instead of the checks themselves, and the verdict, headroom and score of a part with
+/// its checks written out come from the same tally.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct Tally {
+    shorts: u32,
+    first_shortfall: f64,
+    unknown: bool,
+    headroom: Option<f64>,
+    quantity: Option<f64>,
+}
+
+impl Tally {
+    /// The tally of these checks.
+    #[must_use]
+    pub fn of(checks: &[Check]) -> Tally {
+        let mut tally = Tally::default();
+        for check in checks {
+            tally.add(check);
+        }
+        tally
+    }
+
+    /// Counts one more check.
+    pub fn add(&mut self, check: &Check) {
+        match check.verdict {
+            CheckVerdict::Short => {
+                if self.shorts == 0 {
+                    self.first_shortfall = check.shortfall().unwrap_or(1.0);
+                }
+                self.shorts += 1;
             }
+            CheckVerdict::Unknown => self.unknown = true,
+            CheckVerdict::Pass => {}
+        }
+        // Part rules (stock, status) are not ratings: a part's headroom is over its ratings.
+        if check.need.starts_with("part.") {
+            if check.need == checks::ids_part::STOCK {
+                self.quantity = check.required;
+            }
+        } else if let Some(h) = check.headroom {
+            self.headroom = Some(self.headroom.map_or(h, |a| a.min(h)));
+        }
+    }
+
+    /// The verdict (DESIGN.md: fit, near miss; `unknown` never counts as a pass).
+    #[must_use]
+    pub fn verdict(&self) -> Verdict {
+        match self.shorts {
+            0 if !self.unknown => Verdict::Fits,
+            0 => Verdict::Unknown,
+            1 if !self.unknown && self.first_shortfall <= NEAR_MISS + 1e-12 => Verdict::Near,
             _ => Verdict::Short,
         }
+    }
+
+    /// The smallest headroom over the ratings' checks that have one.
+    #[must_use]
+    pub fn headroom(&self) -> Option<f64> {
+        self.headroom
+    }
+
+    /// The quantity the stock rule asked for (1 when there was no stock rule).
+    #[must_use]
+    pub fn quantity(&self) -> f64 {
+        self.quantity.unwrap_or(1.0)
     }
 }
 
@@ -388,37 +447,49 @@ fn candidate(
     if !kind_fits_role(stage, role, part.kind) {
         return None;
     }
-    let checks = if detail {
-        checks::for_part(stage, needs, role, part)
-    } else {
-        checks::for_part_brief(stage, needs, role, part)
-    };
-    let mut candidate = judge(part, index, &checks);
-    if detail {
-        candidate.checks = checks;
+    if !detail {
+        return Some(judge(part, index, &checks::tally(stage, needs, role, part)));
     }
+    let checks = checks::for_part(stage, needs, role, part);
+    let mut candidate = judge(part, index, &Tally::of(&checks));
+    candidate.checks = checks;
     Some(candidate)
 }
 
-/// A candidate's verdict, headroom and score from its checks; the checks themselves are not
-/// kept (the caller keeps them when it wants the detail).
-fn judge(part: &Part, index: usize, checks: &[Check]) -> Candidate {
-    let verdict = Verdict::of(checks);
-    // Part rules (stock, status) are not ratings: a part's headroom is over its ratings only.
-    let headroom = checks
-        .iter()
-        .filter(|c| !c.need.starts_with("part."))
-        .filter_map(|c| c.headroom)
-        .fold(None, |acc: Option<f64>, h| {
-            Some(acc.map_or(h, |a| a.min(h)))
-        });
+/// A candidate's verdict, headroom and score from the tally of its checks; the checks
+/// themselves are not kept (the caller keeps them when it wants the detail).
+fn judge(part: &Part, index: usize, tally: &Tally) -> Candidate {
+    let headroom = tally.headroom();
     Candidate {
         part: index,
-        verdict,
+        verdict: tally.verdict(),
         checks: Vec::new(),
-        score: rank::score_of(part, checks, headroom),
+        score: rank::score_with(part, tally.quantity(), headroom),
         headroom,
         rank: 0,
+    }
+}
+
+/// Parts whose memory is read ahead at once while evaluating a large library: 32 parts of
+/// 200 bytes stay well inside a core's first-level cache.
+const TOUCH_AHEAD: usize = 32;
+
+/// The indices of the parts whose kind can fill `role`, in library order within each kind.
+fn role_parts<'a>(stage: &Stage, library: &'a Library, role: Role) -> Cow<'a, [u32]> {
+    let mut kinds = Kind::ALL
+        .into_iter()
+        .filter(|&kind| kind_fits_role(stage, role, kind));
+    match (kinds.next(), kinds.next()) {
+        (None, _) => Cow::Borrowed(&[]),
+        (Some(only), None) => Cow::Borrowed(library.parts_of_kind(only)),
+        (Some(first), Some(second)) => {
+            let mut all = library.parts_of_kind(first).to_vec();
+            all.extend_from_slice(library.parts_of_kind(second));
+            for kind in kinds {
+                all.extend_from_slice(library.parts_of_kind(kind));
+            }
+            Cow::Owned(all)
+        }
     }
 }
 
@@ -430,12 +501,14 @@ fn candidates(
     role: Role,
     detail: bool,
 ) -> Vec<Candidate> {
+    let indices = role_parts(stage, library, role);
     if detail {
-        return (0..library.parts.len())
-            .filter_map(|i| candidate(stage, needs, library, role, i, true))
+        return indices
+            .iter()
+            .filter_map(|&i| candidate(stage, needs, library, role, i as usize, true))
             .collect();
     }
-    let n = library.parts.len();
+    let n = indices.len();
     let threads = if n < 50_000 {
         1
     } else {
@@ -444,18 +517,6 @@ fn candidates(
             .min(8)
     };
     let chunk = n.div_ceil(threads).max(1);
-    // Count first, so the candidates are written straight into one vector of the right size,
-    // each thread into its own share: never a second copy of a million candidates.
-    let counts: Vec<usize> = library
-        .parts
-        .chunks(chunk)
-        .map(|parts| {
-            parts
-                .iter()
-                .filter(|p| kind_fits_role(stage, role, p.kind))
-                .count()
-        })
-        .collect();
     let placeholder = Candidate {
         part: 0,
         verdict: Verdict::Short,
@@ -464,37 +525,49 @@ fn candidates(
         headroom: None,
         rank: 0,
     };
-    let mut all = vec![placeholder; counts.iter().sum()];
-    let scan = |first: usize, parts: &[Part], out: &mut [Candidate]| {
-        // One buffer of checks for the whole share: no allocation a part.
-        let mut buffer = Vec::with_capacity(16);
-        let fitting = parts
-            .iter()
-            .enumerate()
-            .filter(|(_, p)| kind_fits_role(stage, role, p.kind));
-        for (slot, (i, part)) in out.iter_mut().zip(fitting) {
-            checks::brief_into(stage, needs, role, part, &mut buffer);
-            *slot = judge(part, first + i, &buffer);
+    // One vector of the right size, each thread writing its own share: never a second copy
+    // of a million candidates.
+    let mut all = vec![placeholder; n];
+    let scan = |indices: &[u32], out: &mut [Candidate]| {
+        for (out, indices) in out.chunks_mut(TOUCH_AHEAD).zip(indices.chunks(TOUCH_AHEAD)) {
+            // Read a few bytes of each part of the next block first, in a loop short enough
+            // that the processor has all their cache misses in flight at once; the checks
+            // then find the parts in cache. Without this half the checks' time is spent
+            // waiting on memory, one part after the other.
+            let mut touched = 0u8;
+            for &i in indices {
+                if let Some(part) = library.parts.get(i as usize) {
+                    touched ^= part.status as u8
+                        ^ u8::from(part.stock.is_some())
+                        ^ u8::from(part.price.get().is_some())
+                        ^ u8::from(matches!(part.ratings, Ratings::Bjt(_)));
+                }
+            }
+            std::hint::black_box(touched);
+            for (slot, &i) in out.iter_mut().zip(indices) {
+                // The kind lists hold indices of this library's parts only.
+                if let Some(part) = library.parts.get(i as usize) {
+                    *slot = judge(part, i as usize, &checks::tally(stage, needs, role, part));
+                }
+            }
         }
     };
     if threads == 1 {
-        scan(0, &library.parts, &mut all);
+        scan(&indices, &mut all);
         return all;
     }
     let finished = std::thread::scope(|scope| {
-        let mut rest: &mut [Candidate] = &mut all;
-        let mut handles = Vec::new();
-        for (t, (parts, &count)) in library.parts.chunks(chunk).zip(&counts).enumerate() {
-            let (share, tail) = rest.split_at_mut(count);
-            rest = tail;
-            handles.push(scope.spawn(move || scan(t * chunk, parts, share)));
-        }
+        let handles: Vec<_> = indices
+            .chunks(chunk)
+            .zip(all.chunks_mut(chunk))
+            .map(|(indices, share)| scope.spawn(move || scan(indices, share)))
+            .collect();
         // A scan thread only evaluates parts and cannot panic on library data; should one
         // fail anyway, the whole role is evaluated again on this thread.
         handles.into_iter().all(|h| h.join().is_ok())
     });
     if !finished {
-        scan(0, &library.parts, &mut all);
+        scan(&indices, &mut all);
     }
     all
 }

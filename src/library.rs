@@ -155,6 +155,16 @@ pub struct Library {
     pub(crate) size_hint: u64,
     /// Each part's place in part-number order, found when first asked for.
     number_order: std::sync::OnceLock<Vec<u32>>,
+    /// The parts' indices grouped by kind, found when first asked for.
+    by_kind: std::sync::OnceLock<KindIndex>,
+}
+
+/// Part indices grouped by kind: one list of 4 bytes a part and where each kind's run starts.
+#[derive(Debug, Default, Clone)]
+struct KindIndex {
+    indices: Vec<u32>,
+    /// `indices[starts[k]..starts[k + 1]]` are the parts of the kind `k` (`kind as usize`).
+    starts: [usize; Kind::ALL.len() + 1],
 }
 
 impl Library {
@@ -312,6 +322,34 @@ impl Library {
             .and_then(|&i| self.parts.get(i as usize))
     }
 
+    /// The indices of the parts of `kind`, in library order. A fit of a million parts holds
+    /// each role's few kinds only, and walking these lists (4 bytes a part) is far cheaper
+    /// than reading every part's kind. Found on first use and kept.
+    #[must_use]
+    pub fn parts_of_kind(&self, kind: Kind) -> &[u32] {
+        let index = self.by_kind.get_or_init(|| {
+            let mut counts = [0usize; Kind::ALL.len()];
+            for part in &self.parts {
+                counts[part.kind as usize] += 1;
+            }
+            let mut starts = [0usize; Kind::ALL.len() + 1];
+            for k in 0..counts.len() {
+                starts[k + 1] = starts[k] + counts[k];
+            }
+            let mut next = starts;
+            let mut indices = vec![0u32; self.parts.len()];
+            for (i, part) in self.parts.iter().enumerate() {
+                let slot = &mut next[part.kind as usize];
+                // At most `limits::MAX_ROWS` parts: an index fits in u32.
+                indices[*slot] = i as u32;
+                *slot += 1;
+            }
+            KindIndex { indices, starts }
+        });
+        let k = kind as usize;
+        &index.indices[index.starts[k]..index.starts[k + 1]]
+    }
+
     /// Each part's place (0-based) when the parts are sorted by part number, byte by byte:
     /// ranking breaks ties by part number, and comparing two integers is far cheaper than
     /// comparing two numbers' texts a million times over. Found on first use and kept.
@@ -443,6 +481,7 @@ impl Library {
                 slot.insert(parts.len() as u32);
                 self.parts.push(part);
                 self.number_order.take();
+                self.by_kind.take();
                 Ok(())
             }
         }

@@ -1,7 +1,7 @@
 //! The checks of each role: which rating of a part meets which need, and the figures a part
 //! brings itself (its own VCE(sat), RDS(on), coil resistance, photocell law).
 
-use super::{Check, CheckVerdict, Role};
+use super::{Check, CheckVerdict, Role, Tally};
 use crate::library::{Kind, Part, Status};
 use crate::needs::{Bound, Needs, ids};
 use crate::needs::{photocell, thermal, worst};
@@ -132,16 +132,22 @@ fn signed_percent(fraction: f64) -> String {
     format!("{:+.1} %", fraction * 100.0)
 }
 
-/// The checks of one part as they are made, and whether their notes are written: notes cost
-/// formatting, and a million-part ranking needs only verdicts and headrooms.
+/// Where the checks of one part go as they are made: kept with their notes, or only counted
+/// in a [`Tally`] (notes cost formatting, and a million-part ranking needs only verdicts,
+/// headrooms and the stock's quantity).
 pub(crate) struct Out {
-    pub(crate) checks: Vec<Check>,
+    checks: Vec<Check>,
+    tally: Tally,
     detail: bool,
 }
 
 impl Out {
     fn push(&mut self, check: Check) {
-        self.checks.push(check);
+        if self.detail {
+            self.checks.push(check);
+        } else {
+            self.tally.add(&check);
+        }
     }
 
     fn last_mut(&mut self) -> Option<&mut Check> {
@@ -194,35 +200,26 @@ fn with_note(mut check: Check, note: String) -> Check {
 /// Every check of `part` for `role`, in need order, then the part rules.
 #[must_use]
 pub fn for_part(stage: &Stage, needs: &Needs, role: Role, part: &Part) -> Vec<Check> {
-    collect(stage, needs, role, part, true)
-}
-
-/// As [`for_part`] without the notes: the same verdicts and headrooms, for ranking large
-/// libraries (a part's notes are written again when it is shown).
-#[must_use]
-pub fn for_part_brief(stage: &Stage, needs: &Needs, role: Role, part: &Part) -> Vec<Check> {
-    collect(stage, needs, role, part, false)
-}
-
-/// As [`for_part_brief`], into `buffer` (cleared first): a ranking of a million parts reuses
-/// one buffer a thread instead of allocating a vector a part.
-pub fn brief_into(stage: &Stage, needs: &Needs, role: Role, part: &Part, buffer: &mut Vec<Check>) {
-    buffer.clear();
-    let mut out = Out {
-        checks: std::mem::take(buffer),
-        detail: false,
-    };
-    fill(stage, needs, role, part, &mut out);
-    *buffer = out.checks;
-}
-
-fn collect(stage: &Stage, needs: &Needs, role: Role, part: &Part, detail: bool) -> Vec<Check> {
     let mut out = Out {
         checks: Vec::with_capacity(8),
-        detail,
+        tally: Tally::default(),
+        detail: true,
     };
     fill(stage, needs, role, part, &mut out);
     out.checks
+}
+
+/// The tally of [`for_part`]'s checks without writing them: the same verdict, headroom and
+/// quantity, for ranking large libraries (a part's checks are written again when it is shown).
+#[must_use]
+pub fn tally(stage: &Stage, needs: &Needs, role: Role, part: &Part) -> Tally {
+    let mut out = Out {
+        checks: Vec::new(),
+        tally: Tally::default(),
+        detail: false,
+    };
+    fill(stage, needs, role, part, &mut out);
+    out.tally
 }
 
 fn fill(stage: &Stage, needs: &Needs, role: Role, part: &Part, out: &mut Out) {
@@ -430,7 +427,7 @@ fn switch(stage: &Stage, needs: &Needs, part: &Part, checks: &mut Out) {
             let p = m
                 .rds_on
                 .get()
-                .map(|r| thermal::mosfet_dissipation(Amps(il), Ohms(r)).value.value());
+                .map(|r| thermal::mosfet_power(Amps(il), Ohms(r)).value());
             let how = || {
                 format!(
                     "P = IL²·RDS(on)·1.5 (hot) = {}² × {} × 1.5",
@@ -839,5 +836,44 @@ mod tests {
         );
         let c = at_least("x.y", "r", Some(20.0), Some(20.0), Dim::Volt);
         assert_eq!(c.verdict, CheckVerdict::Pass, "equal passes");
+    }
+
+    /// The tally a ranking keeps of a part equals the tally of its checks written out, for
+    /// every demo stage (nominal and worst case), role and demo part: one fill, two sinks.
+    #[test]
+    fn tally_equals_the_checks_written_out() {
+        let library = crate::library::Library::demo();
+        let mut compared = 0;
+        for entry in std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/data/stages"))
+            .expect("the demo stages are there")
+        {
+            let path = entry.expect("a directory entry").path();
+            let text = std::fs::read_to_string(&path).expect("a demo stage reads");
+            let stage =
+                Stage::from_toml(&text, &path.display().to_string()).expect("a demo stage parses");
+            for worst in [false, true] {
+                let mut stage = stage.clone();
+                stage.rules.worst_case = worst;
+                let needs = crate::needs::compute(&stage, Some(&library));
+                for role in super::super::roles(&stage) {
+                    for part in &library.parts {
+                        if !super::super::kind_fits_role(&stage, role, part.kind) {
+                            continue;
+                        }
+                        let written = for_part(&stage, &needs, role, part);
+                        assert_eq!(
+                            tally(&stage, &needs, role, part),
+                            Tally::of(&written),
+                            "{} as {} in {}",
+                            part.number,
+                            role.name(),
+                            path.display()
+                        );
+                        compared += 1;
+                    }
+                }
+            }
+        }
+        assert!(compared > 200, "{compared} parts compared");
     }
 }

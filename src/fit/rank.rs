@@ -83,20 +83,21 @@ pub fn score(part: &Part, candidate: &Candidate) -> f64 {
 }
 
 /// The score of a part with these checks and this smallest headroom: [`score`] for a
-/// candidate whose checks are held elsewhere (a ranking of a large library reuses one buffer).
+/// candidate whose checks are held elsewhere.
 #[must_use]
 pub fn score_of(part: &Part, checks: &[super::Check], headroom: Option<f64>) -> f64 {
+    score_with(part, super::Tally::of(checks).quantity(), headroom)
+}
+
+/// The score of a part whose stock is held against `quantity`, with this smallest headroom.
+#[must_use]
+pub fn score_with(part: &Part, quantity: f64, headroom: Option<f64>) -> f64 {
     let status = match part.status {
         Status::Active => 0.0,
         Status::Nrnd => 15.0,
         Status::Unknown => 5.0,
         Status::Obsolete => 30.0,
     };
-    let quantity = checks
-        .iter()
-        .find(|c| c.need == super::checks::ids_part::STOCK)
-        .and_then(|c| c.required)
-        .unwrap_or(1.0);
     let stock = match part.stock {
         None => 10.0,
         Some(s) if (s as f64) < quantity => 10.0,
@@ -142,14 +143,16 @@ pub fn compare(library: &Library, a: &Candidate, b: &Candidate, key: SortKey) ->
         .then(a.part.cmp(&b.part))
 }
 
-/// Sorts candidates in place and numbers their ranks from 1, in the order of [`compare`].
+/// Sorts candidates and numbers their ranks from 1, in the order of [`compare`].
 ///
 /// A million candidates are ranked on every edit in the workbench, so the order is not found
 /// by calling [`compare`]: each candidate gets a key of plain integers (group, the sort key's
 /// value as order-preserving bits, the part's place in part-number order from
-/// [`Library::number_order`]), the keys are sorted, and the candidates are moved into place
-/// once. A test holds this equal to sorting with [`compare`].
-pub fn rank(candidates: &mut [Candidate], library: &Library, key: SortKey) {
+/// [`Library::number_order`]), the keys are sorted (a large list in one share a core, the
+/// sorted shares then merged), and the candidates are gathered into their places in one pass
+/// of independent reads (moving them along the permutation's cycles instead waits on each
+/// read before the next). A test holds this equal to sorting with [`compare`].
+pub fn rank(candidates: &mut Vec<Candidate>, library: &Library, key: SortKey) {
     // One u128 a candidate, most significant first: group (2 bits), the sort key's value
     // (64), the part's place in number order (23), the candidate's position (23). Places
     // and positions are below `limits::MAX_ROWS` (5 000 000 < 2^23).
@@ -177,25 +180,46 @@ pub fn rank(candidates: &mut [Candidate], library: &Library, key: SortKey) {
                 | (i as u128 & MASK)
         })
         .collect();
-    keys.sort_unstable();
-    // Move each candidate to its place by following the cycles of the permutation:
-    // position j takes the candidate that was at `from(j)`; a visited position is marked by
-    // pointing at itself.
-    for start in 0..keys.len() {
-        let mut j = start;
-        loop {
-            let k = (keys[j] & MASK) as usize;
-            keys[j] = (keys[j] & !MASK) | j as u128;
-            if k == start {
-                break;
-            }
-            candidates.swap(j, k);
-            j = k;
-        }
+    sort_keys(&mut keys);
+    let mut ordered = Vec::with_capacity(candidates.len());
+    for &k in &keys {
+        // Every position below the list's length is in the keys exactly once.
+        let from = &mut candidates[(k & MASK) as usize];
+        // A large library's candidates have no checks yet: reading them only keeps the
+        // source lines clean.
+        let checks = if from.checks.is_empty() {
+            Vec::new()
+        } else {
+            std::mem::take(&mut from.checks)
+        };
+        ordered.push(Candidate { checks, ..*from });
     }
+    *candidates = ordered;
     for (i, c) in candidates.iter_mut().enumerate() {
         c.rank = i + 1;
     }
+}
+
+/// Sorts distinct keys: a long list in one share a core, then the sorted shares merged (the
+/// standard stable sort merges runs it finds already in order, in one pass).
+fn sort_keys(keys: &mut [u128]) {
+    const SHARED_FROM: usize = 50_000;
+    let threads = if keys.len() < SHARED_FROM {
+        1
+    } else {
+        std::thread::available_parallelism().map_or(1, |t| t.get().min(8))
+    };
+    if threads == 1 {
+        keys.sort_unstable();
+        return;
+    }
+    let chunk = keys.len().div_ceil(threads);
+    std::thread::scope(|scope| {
+        for share in keys.chunks_mut(chunk) {
+            scope.spawn(move || share.sort_unstable());
+        }
+    });
+    keys.sort();
 }
 
 /// Bits of `x` that sort as `x` does, lowest first; missing (or not a number) after all.

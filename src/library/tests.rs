@@ -444,3 +444,35 @@ fn a_load_reports_its_progress_to_a_watcher() {
     assert!((progress.fraction() - 1.0).abs() < 1e-12);
     assert_eq!(LoadProgress::default().fraction(), 0.0);
 }
+
+/// The kind lists partition the library: each holds only its kind, in library order, and a
+/// part added later shows in its list.
+#[test]
+fn parts_of_kind_partition_the_library() {
+    for (k, kind) in Kind::ALL.into_iter().enumerate() {
+        assert_eq!(kind as usize, k, "Kind::ALL follows the declaration order");
+    }
+    let mut library = Library::demo();
+    let mut seen = vec![false; library.parts.len()];
+    for kind in Kind::ALL {
+        let list = library.parts_of_kind(kind);
+        assert!(
+            list.windows(2).all(|w| w[0] < w[1]),
+            "{kind:?} in library order"
+        );
+        for &i in list {
+            assert_eq!(library.parts[i as usize].kind, kind);
+            assert!(!seen[i as usize], "part {i} listed twice");
+            seen[i as usize] = true;
+        }
+    }
+    assert!(seen.iter().all(|&s| s), "every part is in a list");
+    let relays = library.parts_of_kind(Kind::Relay).len();
+    library
+        .add_bytes(
+            "more.csv",
+            b"part,kind,coil_v,coil_r,contact_current\nRLX-NEW-1,relay,12 V,400,10 A\n",
+        )
+        .expect("the row reads");
+    assert_eq!(library.parts_of_kind(Kind::Relay).len(), relays + 1);
+}

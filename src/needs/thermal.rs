@@ -27,12 +27,19 @@ pub fn bjt_dissipation(vce_sat: Volts, ic: Amps, vbe: Volts, ib: Amps) -> Worked
 /// common practice).
 #[must_use]
 pub fn mosfet_dissipation(il: Amps, rds_on: Ohms) -> Worked<Watts> {
-    let p = Watts(il.0 * il.0 * rds_on.0 * RDS_ON_HOT_FACTOR);
+    let p = mosfet_power(il, rds_on);
     Worked::new(
         p,
         format!("P = IL² × RDS(on) × 1.5 = ({il})² × {rds_on} × 1.5 = {p}"),
         "common practice (RDS(on) × 1.5 for a hot junction)",
     )
+}
+
+/// The value of [`mosfet_dissipation`] without its working: a ranking holds a million MOSFETs
+/// against the stage and must not write a sentence for each.
+#[must_use]
+pub fn mosfet_power(il: Amps, rds_on: Ohms) -> Watts {
+    Watts(il.0 * il.0 * rds_on.0 * RDS_ON_HOT_FACTOR)
 }
 
 /// A PD rating (given at 25 °C) derated linearly to zero at TJmax, at `ambient`: the usual
@@ -72,6 +79,7 @@ mod tests {
     fn mosfet_dissipation_common_practice() {
         let p = mosfet_dissipation(Amps(2.0), Ohms(0.05));
         assert!((p.value.0 - 0.3).abs() < 1e-12);
+        assert_eq!(mosfet_power(Amps(2.0), Ohms(0.05)), p.value);
     }
 
     /// Linear derating to TJmax (common practice): 625 mW at 25 °C, TJmax 150 °C, at 40 °C:
