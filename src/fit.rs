@@ -395,7 +395,14 @@ pub fn evaluate_part(
     role: Role,
     index: usize,
 ) -> Option<Candidate> {
-    candidate(stage, needs, library, role, index, true)
+    let part: &Part = library.parts.get(index)?;
+    if !kind_fits_role(stage, role, part.kind) {
+        return None;
+    }
+    let checks = checks::for_part(stage, needs, role, part);
+    let mut candidate = judge(part, index, &Tally::of(&checks));
+    candidate.checks = checks;
+    Some(candidate)
 }
 
 /// A candidate's checks again, with notes, when the ranking kept only its verdict.
@@ -435,27 +442,6 @@ pub fn fill_checks(
     }
 }
 
-fn candidate(
-    stage: &Stage,
-    needs: &Needs,
-    library: &Library,
-    role: Role,
-    index: usize,
-    detail: bool,
-) -> Option<Candidate> {
-    let part: &Part = library.parts.get(index)?;
-    if !kind_fits_role(stage, role, part.kind) {
-        return None;
-    }
-    if !detail {
-        return Some(judge(part, index, &checks::tally(stage, needs, role, part)));
-    }
-    let checks = checks::for_part(stage, needs, role, part);
-    let mut candidate = judge(part, index, &Tally::of(&checks));
-    candidate.checks = checks;
-    Some(candidate)
-}
-
 /// A candidate's verdict, headroom and score from the tally of its checks; the checks
 /// themselves are not kept (the caller keeps them when it wants the detail).
 fn judge(part: &Part, index: usize, tally: &Tally) -> Candidate {
@@ -493,47 +479,108 @@ fn role_parts<'a>(stage: &Stage, library: &'a Library, role: Role) -> Cow<'a, [u
     }
 }
 
-/// Every candidate of `role`, evaluated on all cores for a large library.
-fn candidates(
+/// Every candidate of `role` with its checks, in library order (a small library).
+fn candidates(stage: &Stage, needs: &Needs, library: &Library, role: Role) -> Vec<Candidate> {
+    role_parts(stage, library, role)
+        .iter()
+        .filter_map(|&i| evaluate_part(stage, needs, library, role, i as usize))
+        .collect()
+}
+
+/// A candidate as a large ranking first holds it, beside its sort key: the part's index,
+/// the verdict and whether there is a headroom in one word, then the score and the headroom
+/// as bits. 24 bytes where a [`Candidate`] takes 72, and all zeros, so the allocator hands
+/// the vector out zeroed and each core first touches its own share of it.
+type Brief = [u64; 3];
+
+fn brief(c: &Candidate) -> Brief {
+    let verdict = match c.verdict {
+        Verdict::Fits => 0,
+        Verdict::Near => 1,
+        Verdict::Unknown => 2,
+        Verdict::Short => 3,
+    };
+    [
+        (c.part as u64 & u64::from(u32::MAX))
+            | (verdict << 32)
+            | (u64::from(c.headroom.is_some()) << 40),
+        c.score.to_bits(),
+        c.headroom.unwrap_or(0.0).to_bits(),
+    ]
+}
+
+fn unbrief(b: &Brief, rank: usize) -> Candidate {
+    Candidate {
+        part: (b[0] & u64::from(u32::MAX)) as usize,
+        verdict: match (b[0] >> 32) & 0xff {
+            0 => Verdict::Fits,
+            1 => Verdict::Near,
+            2 => Verdict::Unknown,
+            _ => Verdict::Short,
+        },
+        checks: Vec::new(),
+        score: f64::from_bits(b[1]),
+        headroom: ((b[0] >> 40) & 1 == 1).then(|| f64::from_bits(b[2])),
+        rank,
+    }
+}
+
+/// Every candidate of `role` in a large library, evaluated and ranked by `sort` on all
+/// cores, without their checks. Each core evaluates its share of the role's parts into
+/// [`Brief`]s and their sort keys (the part is in cache then); the keys are sorted; the
+/// candidates are written once, in rank order. The order is [`rank::rank`]'s (a test holds
+/// the two equal for every sort key).
+fn ranked_candidates(
     stage: &Stage,
     needs: &Needs,
     library: &Library,
     role: Role,
-    detail: bool,
+    sort: SortKey,
 ) -> Vec<Candidate> {
-    let indices = role_parts(stage, library, role);
-    if detail {
-        return indices
-            .iter()
-            .filter_map(|&i| candidate(stage, needs, library, role, i as usize, true))
-            .collect();
-    }
-    let n = indices.len();
-    let threads = if n < 50_000 {
+    let threads = if role_parts(stage, library, role).len() < SHARE_FROM {
         1
     } else {
         std::thread::available_parallelism()
             .map_or(1, |t| t.get())
             .min(8)
     };
-    let chunk = n.div_ceil(threads).max(1);
-    let placeholder = Candidate {
-        part: 0,
-        verdict: Verdict::Short,
-        checks: Vec::new(),
-        score: 0.0,
-        headroom: None,
-        rank: 0,
-    };
-    // One vector of the right size, each thread writing its own share: never a second copy
-    // of a million candidates.
-    let mut all = vec![placeholder; n];
-    let scan = |indices: &[u32], out: &mut [Candidate]| {
-        for (out, indices) in out.chunks_mut(TOUCH_AHEAD).zip(indices.chunks(TOUCH_AHEAD)) {
-            // Read a few bytes of each part of the next block first, in a loop short enough
-            // that the processor has all their cache misses in flight at once; the checks
-            // then find the parts in cache. Without this half the checks' time is spent
-            // waiting on memory, one part after the other.
+    ranked_candidates_on(stage, needs, library, role, sort, threads)
+}
+
+/// Roles with at least this many candidates are evaluated on all cores: below, starting
+/// threads costs more than it saves.
+const SHARE_FROM: usize = 50_000;
+
+/// [`ranked_candidates`] on this many threads.
+fn ranked_candidates_on(
+    stage: &Stage,
+    needs: &Needs,
+    library: &Library,
+    role: Role,
+    sort: SortKey,
+    threads: usize,
+) -> Vec<Candidate> {
+    // The key of a part the list names but the library does not have (it cannot happen: the
+    // kind lists index this library): no real key is all ones (positions stay below 2^23).
+    const MISSING: u128 = u128::MAX;
+    let indices = role_parts(stage, library, role);
+    let n = indices.len();
+    let chunk = n.div_ceil(threads.max(1)).max(1);
+    let mut briefs: Vec<Brief> = vec![[0; 3]; n];
+    let mut keys: Vec<u128> = vec![0; n];
+    let lookup = checks::NeedLookup::new(needs);
+    let order = library.number_order();
+    let scan = |first: usize, indices: &[u32], briefs: &mut [Brief], keys: &mut [u128]| {
+        let blocks = indices
+            .chunks(TOUCH_AHEAD)
+            .zip(briefs.chunks_mut(TOUCH_AHEAD))
+            .zip(keys.chunks_mut(TOUCH_AHEAD));
+        let mut position = first;
+        for ((indices, briefs), keys) in blocks {
+            // Read a few bytes of each part of the block first, in a loop short enough that
+            // the processor has all their cache misses in flight at once; the checks then
+            // find the parts in cache. Without this half the checks' time is spent waiting
+            // on memory, one part after the other.
             let mut touched = 0u8;
             for &i in indices {
                 if let Some(part) = library.parts.get(i as usize) {
@@ -544,32 +591,51 @@ fn candidates(
                 }
             }
             std::hint::black_box(touched);
-            for (slot, &i) in out.iter_mut().zip(indices) {
-                // The kind lists hold indices of this library's parts only.
-                if let Some(part) = library.parts.get(i as usize) {
-                    *slot = judge(part, i as usize, &checks::tally(stage, needs, role, part));
-                }
+            for ((&i, brief_slot), key_slot) in indices.iter().zip(briefs).zip(keys) {
+                let Some(part) = library.parts.get(i as usize) else {
+                    *key_slot = MISSING;
+                    continue;
+                };
+                let c = judge(part, i as usize, &checks::tally(stage, &lookup, role, part));
+                *brief_slot = brief(&c);
+                *key_slot = rank::sort_key(
+                    sort,
+                    order,
+                    c.part,
+                    Some(part),
+                    c.verdict,
+                    c.score,
+                    c.headroom,
+                    position,
+                );
+                position += 1;
             }
         }
     };
-    if threads == 1 {
-        scan(&indices, &mut all);
-        return all;
-    }
-    let finished = std::thread::scope(|scope| {
-        let handles: Vec<_> = indices
-            .chunks(chunk)
-            .zip(all.chunks_mut(chunk))
-            .map(|(indices, share)| scope.spawn(move || scan(indices, share)))
-            .collect();
-        // A scan thread only evaluates parts and cannot panic on library data; should one
-        // fail anyway, the whole role is evaluated again on this thread.
-        handles.into_iter().all(|h| h.join().is_ok())
-    });
+    let finished = threads > 1
+        && std::thread::scope(|scope| {
+            let handles: Vec<_> = indices
+                .chunks(chunk)
+                .zip(briefs.chunks_mut(chunk))
+                .zip(keys.chunks_mut(chunk))
+                .enumerate()
+                .map(|(t, ((indices, briefs), keys))| {
+                    scope.spawn(move || scan(t * chunk, indices, briefs, keys))
+                })
+                .collect();
+            // A scan thread only evaluates parts and cannot panic on library data; should
+            // one fail anyway, the whole role is evaluated again on this thread.
+            handles.into_iter().all(|h| h.join().is_ok())
+        });
     if !finished {
-        scan(&indices, &mut all);
+        scan(0, &indices, &mut briefs, &mut keys);
     }
-    all
+    rank::sort_keys_on(&mut keys, threads);
+    keys.iter()
+        .take_while(|&&k| k != MISSING)
+        .enumerate()
+        .map(|(r, &k)| unbrief(&briefs[rank::position(k)], r + 1))
+        .collect()
 }
 
 /// Evaluates every part of the library for every role of the stage and ranks each role by
@@ -581,16 +647,22 @@ pub fn evaluate(stage: &Stage, needs: &Needs, library: &Library, sort: SortKey) 
     let roles = roles(stage)
         .into_iter()
         .map(|role| {
-            let mut candidates = candidates(stage, needs, library, role, detail);
-            rank::rank(&mut candidates, library, sort);
-            if !detail {
+            let candidates = if detail {
+                let mut candidates = candidates(stage, needs, library, role);
+                rank::rank(&mut candidates, library, sort);
+                candidates
+            } else {
+                let mut candidates = ranked_candidates(stage, needs, library, role, sort);
                 for c in candidates.iter_mut().take(DETAIL_RANKS) {
                     *c = with_checks(stage, needs, library, role, c);
                 }
-            }
-            // The needs this role's parts are held against, in the needs' order.
+                candidates
+            };
+            // The needs this role's parts are held against, in the needs' order (only the
+            // first places of a large library have their checks).
             let mut seen: Vec<&'static str> = Vec::new();
-            for c in &candidates {
+            let with_checks = if detail { usize::MAX } else { DETAIL_RANKS };
+            for c in candidates.iter().take(with_checks) {
                 for k in &c.checks {
                     if !seen.contains(&k.need) {
                         seen.push(k.need);
@@ -663,5 +735,40 @@ mod tests {
             Verdict::Short
         );
         assert_eq!(Verdict::of(&[check(Short, None)]), Verdict::Short);
+    }
+
+    /// A large library's ranking (evaluated in shares, keys sorted, candidates written once)
+    /// gives the same list as evaluating every part with its checks and ranking with
+    /// [`rank::rank`], for every sort key and on one, two and three threads.
+    #[test]
+    fn large_ranking_equals_the_full_one() {
+        let mut text = Vec::new();
+        crate::synthetic::write_library(&mut text, 6_000, 5).expect("writing into memory");
+        let mut library = Library::new();
+        library
+            .add_bytes("generated.csv", &text)
+            .expect("the generated library reads");
+        for stage_text in [
+            include_str!("../data/stages/door-strike.toml"),
+            include_str!("../data/stages/mains-pump-relay.toml"),
+        ] {
+            let stage = Stage::from_toml(stage_text, "stage.toml").expect("a demo stage");
+            let needs = crate::needs::compute(&stage, Some(&library));
+            for role in roles(&stage) {
+                for sort in SortKey::ALL {
+                    let mut full = candidates(&stage, &needs, &library, role);
+                    rank::rank(&mut full, &library, sort);
+                    for c in &mut full {
+                        c.checks.clear();
+                    }
+                    assert!(!full.is_empty(), "{role:?}");
+                    for threads in 1..=3 {
+                        let large =
+                            ranked_candidates_on(&stage, &needs, &library, role, sort, threads);
+                        assert_eq!(large, full, "{role:?} by {sort:?} on {threads} threads");
+                    }
+                }
+            }
+        }
     }
 }

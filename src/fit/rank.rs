@@ -153,38 +153,20 @@ pub fn compare(library: &Library, a: &Candidate, b: &Candidate, key: SortKey) ->
 /// of independent reads (moving them along the permutation's cycles instead waits on each
 /// read before the next). A test holds this equal to sorting with [`compare`].
 pub fn rank(candidates: &mut Vec<Candidate>, library: &Library, key: SortKey) {
-    // One u128 a candidate, most significant first: group (2 bits), the sort key's value
-    // (64), the part's place in number order (23), the candidate's position (23). Places
-    // and positions are below `limits::MAX_ROWS` (5 000 000 < 2^23).
-    const BITS: u32 = 23;
-    const MASK: u128 = (1 << BITS) - 1;
-    const { assert!(crate::library::limits::MAX_ROWS < 1 << BITS) };
     let order = library.number_order();
     let mut keys: Vec<u128> = candidates
         .iter()
         .enumerate()
         .map(|(i, c)| {
             let part = library.parts.get(c.part);
-            let within = match key {
-                SortKey::Score => descending(Some(c.score)),
-                SortKey::Price => ascending(part.and_then(|p| p.price.get())),
-                SortKey::Headroom => descending(c.headroom),
-                SortKey::Stock => descending(part.and_then(|p| p.stock).map(f64::from)),
-                SortKey::Part => 0,
-            };
-            // Candidates index parts of this library; a stray index sorts last.
-            let place = order.get(c.part).map_or(MASK, |&p| u128::from(p) & MASK);
-            (u128::from(group(c.verdict)) << (64 + 2 * BITS))
-                | (u128::from(within) << (2 * BITS))
-                | (place << BITS)
-                | (i as u128 & MASK)
+            sort_key(key, order, c.part, part, c.verdict, c.score, c.headroom, i)
         })
         .collect();
     sort_keys(&mut keys);
     let mut ordered = Vec::with_capacity(candidates.len());
     for &k in &keys {
         // Every position below the list's length is in the keys exactly once.
-        let from = &mut candidates[(k & MASK) as usize];
+        let from = &mut candidates[position(k)];
         // A large library's candidates have no checks yet: reading them only keeps the
         // source lines clean.
         let checks = if from.checks.is_empty() {
@@ -200,16 +182,62 @@ pub fn rank(candidates: &mut Vec<Candidate>, library: &Library, key: SortKey) {
     }
 }
 
+/// Bits of a candidate's place in number order and of its position in the list being
+/// ranked: both are below `limits::MAX_ROWS` (5 000 000 < 2^23).
+const BITS: u32 = 23;
+const MASK: u128 = (1 << BITS) - 1;
+const _: () = assert!(crate::library::limits::MAX_ROWS < 1 << BITS);
+
+/// The integer a candidate sorts by, most significant first: group (2 bits), the sort key's
+/// value as order-preserving bits (64), the part's place in number order (23), and
+/// `position`, the candidate's place in the list being ranked (23), so that [`position`]
+/// finds it again after the sort. Sorting these integers gives the order of [`compare`].
+#[allow(clippy::too_many_arguments)]
+pub(crate) fn sort_key(
+    key: SortKey,
+    order: &[u32],
+    index: usize,
+    part: Option<&Part>,
+    verdict: Verdict,
+    score: f64,
+    headroom: Option<f64>,
+    position: usize,
+) -> u128 {
+    let within = match key {
+        SortKey::Score => descending(Some(score)),
+        SortKey::Price => ascending(part.and_then(|p| p.price.get())),
+        SortKey::Headroom => descending(headroom),
+        SortKey::Stock => descending(part.and_then(|p| p.stock).map(f64::from)),
+        SortKey::Part => 0,
+    };
+    // Candidates index parts of this library; a stray index sorts last.
+    let place = order.get(index).map_or(MASK, |&p| u128::from(p) & MASK);
+    (u128::from(group(verdict)) << (64 + 2 * BITS))
+        | (u128::from(within) << (2 * BITS))
+        | (place << BITS)
+        | (position as u128 & MASK)
+}
+
+/// The position a [`sort_key`] was made with.
+pub(crate) fn position(key: u128) -> usize {
+    (key & MASK) as usize
+}
+
 /// Sorts distinct keys: a long list in one share a core, then the sorted shares merged (the
 /// standard stable sort merges runs it finds already in order, in one pass).
-fn sort_keys(keys: &mut [u128]) {
+pub(crate) fn sort_keys(keys: &mut [u128]) {
     const SHARED_FROM: usize = 50_000;
     let threads = if keys.len() < SHARED_FROM {
         1
     } else {
         std::thread::available_parallelism().map_or(1, |t| t.get().min(8))
     };
-    if threads == 1 {
+    sort_keys_on(keys, threads);
+}
+
+/// [`sort_keys`] in `threads` shares.
+pub(crate) fn sort_keys_on(keys: &mut [u128], threads: usize) {
+    if threads <= 1 || keys.len() < 2 {
         keys.sort_unstable();
         return;
     }
@@ -325,5 +353,31 @@ mod tests {
             key = key.next();
         }
         assert_eq!(key, SortKey::Score);
+    }
+
+    /// Keys sorted in shares on several threads and merged come out as one sort gives them.
+    #[test]
+    fn keys_sorted_in_shares_equal_one_sort() {
+        // A fixed pseudo-random sequence (a 64-bit linear congruential generator, Knuth's
+        // MMIX constants): distinct keys, as ranking makes them.
+        let mut x: u64 = 7;
+        let mut keys: Vec<u128> = (0..10_000u128)
+            .map(|i| {
+                x = x
+                    .wrapping_mul(6364136223846793005)
+                    .wrapping_add(1442695040888963407);
+                (u128::from(x) << 32) | i
+            })
+            .collect();
+        let mut expected = keys.clone();
+        expected.sort_unstable();
+        for threads in [1, 2, 3, 8] {
+            let mut shared = keys.clone();
+            sort_keys_on(&mut shared, threads);
+            assert_eq!(shared, expected, "{threads} threads");
+        }
+        keys.truncate(1);
+        sort_keys_on(&mut keys, 2);
+        assert_eq!(keys.len(), 1);
     }
 }
