@@ -170,10 +170,16 @@ impl Check {
     #[must_use]
     pub fn shortfall(&self) -> Option<f64> {
         match self.verdict {
-            CheckVerdict::Short => Some(self.headroom.map_or(1.0, |h| (1.0 - h).clamp(0.0, 1.0))),
+            CheckVerdict::Short => Some(shortfall(self.headroom)),
             _ => None,
         }
     }
+}
+
+/// How far short a short check with this headroom falls, as a fraction: 1 − headroom, and
+/// all of it (1) when there is no headroom to tell.
+fn shortfall(headroom: Option<f64>) -> f64 {
+    headroom.map_or(1.0, |h| (1.0 - h).clamp(0.0, 1.0))
 }
 
 /// The verdict of a part over all its checks.
@@ -247,10 +253,21 @@ impl Tally {
 
     /// Counts one more check.
     pub fn add(&mut self, check: &Check) {
-        match check.verdict {
+        self.count(check.need, check.verdict, check.headroom, check.required);
+    }
+
+    /// Counts one more check given by its parts (the checks of a ranking are not written).
+    pub(crate) fn count(
+        &mut self,
+        need: &str,
+        verdict: CheckVerdict,
+        headroom: Option<f64>,
+        required: Option<f64>,
+    ) {
+        match verdict {
             CheckVerdict::Short => {
                 if self.shorts == 0 {
-                    self.first_shortfall = check.shortfall().unwrap_or(1.0);
+                    self.first_shortfall = shortfall(headroom);
                 }
                 self.shorts += 1;
             }
@@ -258,11 +275,11 @@ impl Tally {
             CheckVerdict::Pass => {}
         }
         // Part rules (stock, status) are not ratings: a part's headroom is over its ratings.
-        if check.need.starts_with("part.") {
-            if check.need == checks::ids_part::STOCK {
-                self.quantity = check.required;
+        if need.starts_with("part.") {
+            if need == checks::ids_part::STOCK {
+                self.quantity = required;
             }
-        } else if let Some(h) = check.headroom {
+        } else if let Some(h) = headroom {
             self.headroom = Some(self.headroom.map_or(h, |a| a.min(h)));
         }
     }

@@ -63,25 +63,37 @@ fn compare(
     dim: Dim,
     bound: Bound,
 ) -> Check {
-    let mut check = Check {
+    let (verdict, headroom) = hold(rating, required, bound);
+    let note = if required.is_none() {
+        "the need is not bounded: see the stage's problems"
+    } else if rating.is_none() {
+        "not given in the library"
+    } else {
+        ""
+    };
+    Check {
         need,
         rating_name,
         rating,
         required,
         dim,
         bound,
-        verdict: CheckVerdict::Unknown,
-        headroom: None,
-        note: Cow::Borrowed(""),
-    };
+        verdict,
+        headroom,
+        note: Cow::Borrowed(note),
+    }
+}
+
+/// A rating held against a need, as a verdict and a headroom: an unbounded need fails every
+/// part, a missing rating is unknown, and otherwise the headroom (rating over need for a lower
+/// bound, need over rating for an upper one) of at least 1 passes. The one rule for every
+/// bound check, with its notes ([`compare`]) or without ([`Out::min`] while ranking).
+fn hold(rating: Option<f64>, required: Option<f64>, bound: Bound) -> (CheckVerdict, Option<f64>) {
     let Some(required) = required else {
-        check.verdict = CheckVerdict::Short;
-        check.note = Cow::Borrowed("the need is not bounded: see the stage's problems");
-        return check;
+        return (CheckVerdict::Short, None);
     };
     let Some(value) = rating else {
-        check.note = Cow::Borrowed("not given in the library");
-        return check;
+        return (CheckVerdict::Unknown, None);
     };
     let headroom = match bound {
         Bound::Max if value <= 0.0 => f64::INFINITY,
@@ -89,13 +101,12 @@ fn compare(
         _ if required <= 0.0 => f64::INFINITY,
         _ => value / required,
     };
-    check.headroom = Some(headroom);
-    check.verdict = if headroom >= 1.0 - EPSILON {
+    let verdict = if headroom >= 1.0 - EPSILON {
         CheckVerdict::Pass
     } else {
         CheckVerdict::Short
     };
-    check
+    (verdict, Some(headroom))
 }
 
 /// A figure that must be within `tolerance` of a target; headroom (1 + tol) / (1 + |dev|).
@@ -215,7 +226,7 @@ impl Out {
         rating: Option<f64>,
         dim: Dim,
     ) {
-        self.push(at_least(id, name, rating, needs.value(id), dim));
+        self.bound(needs, id, name, rating, dim, Bound::Min);
     }
 
     /// Holds `rating` against the need `id` as an upper bound.
@@ -227,7 +238,28 @@ impl Out {
         rating: Option<f64>,
         dim: Dim,
     ) {
-        self.push(at_most(id, name, rating, needs.value(id), dim));
+        self.bound(needs, id, name, rating, dim, Bound::Max);
+    }
+
+    /// Holds `rating` against the need `id`; while ranking only the verdict and headroom are
+    /// counted (no check is written).
+    fn bound(
+        &mut self,
+        needs: &NeedLookup,
+        id: &'static str,
+        name: &'static str,
+        rating: Option<f64>,
+        dim: Dim,
+        bound: Bound,
+    ) {
+        let required = needs.value(id);
+        if self.detail {
+            self.checks
+                .push(compare(id, name, rating, required, dim, bound));
+        } else {
+            let (verdict, headroom) = hold(rating, required, bound);
+            self.tally.count(id, verdict, headroom, required);
+        }
     }
 
     /// The check with a note added, the note written only when detail is asked for.
