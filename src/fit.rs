@@ -400,7 +400,9 @@ pub const FULL_DETAIL_PARTS: usize = 20_000;
 /// In larger libraries, the candidates ranked up to this place in each role keep their checks
 /// with notes; the others keep their verdict, score and headroom only (a ranking of a million
 /// parts must not hold eight million checks), and [`evaluate_part`] gives any part's checks.
-pub const DETAIL_RANKS: usize = 500;
+/// A hundred covers more than a screenful (the workbench writes the checks of the rows it
+/// shows) while writing their notes stays near a millisecond an edit.
+pub const DETAIL_RANKS: usize = 100;
 
 /// Evaluates one part for one role, every check with its notes; `None` when its kind cannot
 /// fill the role.
