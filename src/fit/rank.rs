@@ -10,7 +10,7 @@
 //!   below 1.25 it loses up to 20 (tight), above 4 it loses 5 per doubling, at most 20
 //!   (grossly oversized: dearer, bigger, slower).
 
-use super::{Candidate, Verdict};
+use super::{Candidate, Checks, Verdict};
 use crate::library::{Library, Part, Status};
 use std::cmp::Ordering;
 
@@ -167,10 +167,10 @@ pub fn rank(candidates: &mut Vec<Candidate>, library: &Library, key: SortKey) {
     for &k in &keys {
         // Every position below the list's length is in the keys exactly once.
         let from = &mut candidates[position(k)];
-        // A large library's candidates have no checks yet: reading them only keeps the
+        // A large library's candidates mostly have no checks: leaving those alone keeps the
         // source lines clean.
         let checks = if from.checks.is_empty() {
-            Vec::new()
+            Checks::default()
         } else {
             std::mem::take(&mut from.checks)
         };
@@ -178,7 +178,8 @@ pub fn rank(candidates: &mut Vec<Candidate>, library: &Library, key: SortKey) {
     }
     *candidates = ordered;
     for (i, c) in candidates.iter_mut().enumerate() {
-        c.rank = i + 1;
+        // Ranks stay below `limits::MAX_ROWS`, well inside u32.
+        c.rank = i as u32 + 1;
     }
 }
 
@@ -340,7 +341,7 @@ mod tests {
                     role.candidates
                         .iter()
                         .enumerate()
-                        .all(|(i, c)| c.rank == i + 1)
+                        .all(|(i, c)| c.rank as usize == i + 1)
                 );
             }
         }
