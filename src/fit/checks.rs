@@ -143,15 +143,17 @@ fn signed_percent(fraction: f64) -> String {
     format!("{:+.1} %", fraction * 100.0)
 }
 
-/// The needs as the checks look them up: ids and values side by side in two short arrays,
-/// found by comparing the ids' pointers first (the checks name needs by the statics of
-/// [`ids`], one piece of memory each), and whether the needs are worst-case, found once. A
-/// million-part ranking looks needs up some ten times a part; built once a role, this keeps
-/// each look-up to a few nanoseconds where searching the needs by text took twenty.
+/// The needs as the checks look them up: a small table keyed by the address of each id's
+/// text (the checks name needs by the statics of [`ids`], one piece of memory each), the
+/// values beside it, and whether the needs are worst-case, found once. A million-part ranking
+/// looks needs up some ten times a part; built once a role, this finds one in a probe or two
+/// where searching the needs by text took twenty nanoseconds.
 pub struct NeedLookup<'a> {
     needs: &'a Needs,
     ids: Vec<&'static str>,
     values: Vec<Option<f64>>,
+    /// Open addressing by text address: (address, position + 1), 0 for an empty slot.
+    slots: Vec<(usize, u32)>,
     worst_case: bool,
 }
 
@@ -159,20 +161,48 @@ impl<'a> NeedLookup<'a> {
     /// The look-up of these needs.
     #[must_use]
     pub fn new(needs: &'a Needs) -> NeedLookup<'a> {
+        let ids: Vec<&'static str> = needs.needs.iter().map(|n| n.id).collect();
+        let mut slots = vec![(0, 0); (ids.len() * 2).next_power_of_two().max(16)];
+        for (i, id) in ids.iter().enumerate() {
+            let address = id.as_ptr() as usize;
+            let mut s = Self::slot(address, slots.len());
+            // The first need of an id is the one found, as `Needs::get` finds it.
+            while slots[s].1 != 0 && slots[s].0 != address {
+                s = (s + 1) & (slots.len() - 1);
+            }
+            if slots[s].1 == 0 {
+                // Needs are a few dozen: positions fit in u32.
+                slots[s] = (address, i as u32 + 1);
+            }
+        }
         NeedLookup {
             needs,
-            ids: needs.needs.iter().map(|n| n.id).collect(),
             values: needs.needs.iter().map(|n| n.value).collect(),
+            ids,
+            slots,
             worst_case: needs.is_worst_case(),
         }
     }
 
+    fn slot(address: usize, len: usize) -> usize {
+        // Texts are at least byte-aligned and a few bytes apart: mix the low bits.
+        ((address >> 2) ^ (address >> 9)) & (len - 1)
+    }
+
     fn position(&self, id: &str) -> Option<usize> {
-        // The text test decides where an id was built some other way.
-        self.ids
-            .iter()
-            .position(|&known| std::ptr::eq(known, id))
-            .or_else(|| self.ids.iter().position(|&known| known == id))
+        let address = id.as_ptr() as usize;
+        let mut s = Self::slot(address, self.slots.len());
+        while let Some(&(at, held)) = self.slots.get(s)
+            && held != 0
+        {
+            let i = held as usize - 1;
+            if at == address && self.ids.get(i).is_some_and(|known| known.len() == id.len()) {
+                return Some(i);
+            }
+            s = (s + 1) & (self.slots.len() - 1);
+        }
+        // The text test decides where an id was built some other way (or is not a need).
+        self.ids.iter().position(|&known| known == id)
     }
 
     /// The need with this id (as [`Needs::get`]).
@@ -959,5 +989,32 @@ mod tests {
             }
         }
         assert!(compared > 200, "{compared} parts compared");
+    }
+
+    /// The look-up finds what `Needs::get` finds: by the ids' statics, by an equal text built
+    /// elsewhere, and nothing for an id the needs do not have.
+    #[test]
+    fn need_lookup_finds_what_the_needs_hold() {
+        for text in [
+            include_str!("../../data/stages/door-strike.toml"),
+            include_str!("../../data/stages/mains-pump-relay.toml"),
+            include_str!("../../data/stages/cabinet-light-sensor.toml"),
+        ] {
+            let stage = Stage::from_toml(text, "stage.toml").expect("a demo stage parses");
+            let needs = crate::needs::compute(&stage, None);
+            let lookup = NeedLookup::new(&needs);
+            for need in &needs.needs {
+                let built = need.id.to_string();
+                for id in [need.id, built.as_str()] {
+                    assert_eq!(lookup.value(id), needs.value(id), "{id}");
+                    assert!(
+                        std::ptr::eq(lookup.get(id).expect("found"), needs.get(id).expect("held")),
+                        "{id}"
+                    );
+                }
+            }
+            assert!(lookup.get("switch.no_such_need").is_none());
+            assert_eq!(lookup.is_worst_case(), needs.is_worst_case());
+        }
     }
 }
