@@ -1344,9 +1344,10 @@ pub type Results = std::sync::mpsc::Receiver<(u64, Needs, Fit)>;
 pub const BACKGROUND_PARTS: usize = 50_000;
 
 /// Candidate lists over this long are searched on worker threads, shorter ones on the UI
-/// thread: those take well under a millisecond, so their hits are on the very next frame (and
-/// the tests and snapshots of small libraries see them at once).
-pub const SEARCH_BACKGROUND: usize = 10_000;
+/// thread: about a millisecond at most (measured at a million parts, where the candidates' parts
+/// lie far apart in memory), so their hits are on the very next frame, and the tests and
+/// snapshots of small libraries see them at once.
+pub const SEARCH_BACKGROUND: usize = 5_000;
 
 /// The needs of a stage (nominal, or at their worst corners carrying the nominal values for the
 /// side-by-side view) and the fit of the library against them.
