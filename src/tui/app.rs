@@ -1319,8 +1319,8 @@ pub type SearchResults = std::sync::mpsc::Receiver<(u64, Filter, Found)>;
 /// Hits of a background search as they arrive.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum Found {
-    /// The first [`super::search::FIRST_SCREEN`] hits in rank order, sent ahead of the rest when the
-    /// list is long; shown at once, never narrowed from.
+    /// The first [`super::search::FIRST_SCREEN`] hits in rank order, sent ahead of the rest
+    /// when the list is long; shown at once, never narrowed from.
     First(Vec<usize>),
     /// Every hit, in rank order.
     All(Vec<usize>),

@@ -1,7 +1,7 @@
 //! The Parts panel's search: which parts a query keeps ([`Query`]), and the search of a long
-//! candidate list on every core ([`search`]), which hands over its first screenful of hits
-//! before the rest. One test of a candidate ([`keeps`]) serves the UI thread and the workers
-//! alike, so a search gives the same hits in the same order wherever it ran.
+//! candidate list on every core ([`Wanted::search`]), which hands over its first screenful of
+//! hits before the rest. One test of a candidate ([`keeps`]) serves the UI thread and the
+//! workers alike, so a search gives the same hits in the same order wherever it ran.
 //!
 //! Only whether a part matches decides the list: it keeps the ranking's order, so no score is
 //! computed here. The letters highlighted on screen still come from fuzzy-matcher's scorer, for
