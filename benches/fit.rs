@@ -6,9 +6,6 @@ use loadfit::fit::{self, SortKey};
 use loadfit::library::Library;
 use loadfit::needs;
 use loadfit::stage::Stage;
-use loadfit::tui::action::Action;
-use loadfit::tui::app::App;
-use loadfit::tui::fields::StageDoc;
 
 fn main() {
     divan::main();
@@ -47,22 +44,5 @@ fn rank_only(bencher: divan::Bencher, rows: u64) {
         let mut again = candidates.clone();
         fit::rank::rank(&mut again, &library, SortKey::Price);
         divan::black_box(again.len())
-    });
-}
-
-#[divan::bench(args = [100_000])]
-fn search_key(bencher: divan::Bencher, rows: u64) {
-    let doc = StageDoc::parse(STAGE, "door-strike.toml").expect("the demo stage reads");
-    let mut app = App::new(library(rows), Vec::new(), doc, None);
-    app.wait_for_background();
-    app.update(Action::Panel(2));
-    bencher.bench_local(|| {
-        // One key of a search from an empty query: the slowest case, nothing to narrow from.
-        app.update(Action::StartSearch);
-        app.update(Action::Type('c'));
-        app.wait_for_search();
-        let shown = app.visible().len();
-        app.update(Action::Back);
-        divan::black_box(shown)
     });
 }

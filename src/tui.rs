@@ -9,6 +9,7 @@ pub mod action;
 pub mod app;
 pub mod fields;
 pub mod keymap;
+pub mod search;
 pub mod view;
 
 use action::Action;
@@ -128,24 +129,33 @@ fn event_loop(app: &mut App, stop: &AtomicBool) -> io::Result<()> {
     // A test hook: the end-to-end test of terminal restore needs a real panic in the running
     // workbench. Nothing else sets this variable.
     let panic_for_test = std::env::var_os("LOADFIT_TEST_PANIC").is_some();
+    // Drawn when something may have changed: a key, a resize, a result from a worker, a
+    // load's gauge. A search's workers get both cores to themselves between frames.
+    let mut draw = true;
     loop {
-        terminal.draw(|frame| {
-            app.page = frame.area().height.saturating_sub(6).max(1) as usize;
-            view::draw(frame, app, theme);
-        })?;
+        if draw {
+            terminal.draw(|frame| {
+                app.page = frame.area().height.saturating_sub(6).max(1) as usize;
+                view::draw(frame, app, theme);
+            })?;
+        }
         if panic_for_test {
             panic!("LOADFIT_TEST_PANIC is set: a panic to test that the terminal is restored");
         }
         if stop.load(Ordering::Relaxed) || app.quit {
             return Ok(());
         }
-        let wait = if app.pending.is_some() || app.loading.is_some() || app.searching.is_some() {
-            30
+        // A worker cannot wake the input poll: while a search runs, look for its hits often
+        // enough that they are on screen a few milliseconds after they are found.
+        let wait = if app.searching.is_some() {
+            SEARCH_POLL
+        } else if app.pending.is_some() || app.loading.is_some() {
+            Duration::from_millis(30)
         } else {
-            200
+            Duration::from_millis(200)
         };
-        if !event::poll(Duration::from_millis(wait))? {
-            app.poll_background();
+        if !event::poll(wait)? {
+            draw = app.poll_background() || app.loading.is_some();
             continue;
         }
         match event::read()? {
@@ -159,8 +169,12 @@ fn event_loop(app: &mut App, stop: &AtomicBool) -> io::Result<()> {
             _ => {}
         }
         app.poll_background();
+        draw = true;
     }
 }
+
+/// How often the event loop looks for a running search's hits.
+const SEARCH_POLL: Duration = Duration::from_millis(4);
 
 #[cfg(test)]
 mod tests;

@@ -2,14 +2,16 @@
 
 use super::action::Action;
 use super::fields::{FIELDS, FieldKind, StageDoc};
+use super::search::{Base, Filter, Query, Wanted};
 use crate::export::{Context, Shortlist, is_library_file, write_shortlist};
-use crate::fit::{self, Candidate, Fit, SortKey, Verdict};
+use crate::fit::{self, Candidate, Fit, SortKey};
 use crate::library::Library;
 use crate::needs::{self, Needs};
 use crate::write::write_atomic;
 use fuzzy_matcher::FuzzyMatcher;
 use fuzzy_matcher::skim::SkimMatcherV2;
 use std::path::PathBuf;
+use std::sync::Arc;
 
 /// The panels, in Tab order.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -149,8 +151,9 @@ pub struct App {
     pub dirty: bool,
     /// The needs of the stage.
     pub needs: Needs,
-    /// Every role's ranked candidates.
-    pub fit: Fit,
+    /// Every role's ranked candidates; shared with the search workers, which read the
+    /// candidates in place rather than a copy of them.
+    pub fit: Arc<Fit>,
     /// The focused panel.
     pub panel: Panel,
     /// Index into `fit.roles`.
@@ -202,8 +205,9 @@ pub struct App {
     /// A recomputation running in the background (large libraries): its number and where its
     /// result arrives. The screen shows the last result meanwhile and keys keep working.
     pub pending: Option<(u64, Results)>,
-    /// A search running on worker threads (a large candidate list): its number and where its
-    /// hits arrive. The last hits stay on screen meanwhile.
+    /// A search running on worker threads (a long candidate list): its number and where its
+    /// hits arrive, the first screenful ahead of the rest. The last hits stay on screen until
+    /// the first ones come.
     pub searching: Option<(u64, SearchResults)>,
     /// The number of the newest search; a worker stops when it is no longer the newest.
     search_generation: std::sync::Arc<std::sync::atomic::AtomicU64>,
@@ -213,9 +217,20 @@ pub struct App {
     generation: u64,
     /// Rows a page moves (set from the terminal height by the view).
     pub page: usize,
-    visible: Vec<usize>,
-    /// The role, fits-only flag and query the visible list was last made for.
-    last_filter: Option<(usize, bool, String)>,
+    /// What the Parts panel shows: indices into the role's candidates.
+    visible: Arc<Vec<usize>>,
+    /// The role whose candidates `visible` indexes into, in the present fit (`None` after a
+    /// new fit, until a list is made for it).
+    visible_role: Option<usize>,
+    /// The filter `hits` was made for.
+    last_filter: Option<Filter>,
+    /// Every hit of `last_filter`, the base a longer query narrows from. The same list as
+    /// `visible`, except while a first screenful of a newer search is shown: a first screenful
+    /// is never narrowed from, it lacks the hits further down.
+    hits: Arc<Vec<usize>>,
+    /// The fitting candidates of each role, counted once per fit rather than every frame.
+    fit_counts: Vec<usize>,
+    /// Highlights the matched letters of the visible rows.
     matcher: SkimMatcherV2,
 }
 
@@ -235,7 +250,7 @@ impl App {
             stage_path,
             dirty: false,
             needs: Needs::default(),
-            fit: Fit { roles: Vec::new() },
+            fit: Arc::new(Fit { roles: Vec::new() }),
             panel: Panel::Stage,
             role: 0,
             stage_cursor: 1,
@@ -266,8 +281,11 @@ impl App {
             loading: None,
             generation: 0,
             page: 10,
-            visible: Vec::new(),
+            visible: Arc::default(),
+            visible_role: None,
             last_filter: None,
+            hits: Arc::default(),
+            fit_counts: Vec::new(),
             matcher: SkimMatcherV2::default(),
         };
         app.worst_case = app.doc.stage.rules.worst_case;
@@ -300,7 +318,8 @@ impl App {
 
     /// Takes in a background result if one has arrived; returns whether the screen changed.
     pub fn poll_background(&mut self) -> bool {
-        let loaded = self.poll_load(false) | self.poll_search(false);
+        // Whether a load or a search changed the screen, whatever the recomputation says.
+        let loaded = self.poll_load(false) | self.poll_search(Until::Now);
         let Some((generation, receiver)) = &self.pending else {
             return loaded;
         };
@@ -311,7 +330,7 @@ impl App {
                 true
             }
             // An older result: a newer computation is on its way.
-            Ok(_) | Err(std::sync::mpsc::TryRecvError::Empty) => false,
+            Ok(_) | Err(std::sync::mpsc::TryRecvError::Empty) => loaded,
             Err(std::sync::mpsc::TryRecvError::Disconnected) => {
                 self.pending = None;
                 self.message = Some("the recomputation failed; edit again to retry".to_string());
@@ -422,9 +441,13 @@ impl App {
 
     fn apply(&mut self, needs: Needs, fit: Fit) {
         self.needs = needs;
-        self.fit = fit;
-        // Candidate positions change with a new fit: the next filter starts from all of them.
+        self.fit_counts = fit.roles.iter().map(fit::RoleFit::fits).collect();
+        self.fit = Arc::new(fit);
+        // Candidate positions change with a new fit: the next filter starts from all of them,
+        // and the list on screen points at the old ones.
         self.last_filter = None;
+        self.hits = Arc::default();
+        self.visible_role = None;
         self.role = self.role.min(self.fit.roles.len().saturating_sub(1));
         self.refilter();
         self.retrace();
@@ -495,10 +518,17 @@ impl App {
         self.focus(Panel::Swap);
     }
 
-    /// The visible list of the Parts panel again (after a search or filter change).
+    /// The visible list of the Parts panel again (after a search or filter change). A query
+    /// over more than [`SEARCH_BACKGROUND`] candidates is searched on worker threads; its hits
+    /// arrive through [`App::poll_background`], the first screenful ahead of the rest.
     pub fn refilter(&mut self) {
+        let generation = self
+            .search_generation
+            .fetch_add(1, std::sync::atomic::Ordering::Relaxed)
+            + 1;
         let Some(role) = self.fit.roles.get(self.role) else {
-            self.visible.clear();
+            self.searching = None;
+            self.show_hits(None, Vec::new());
             return;
         };
         let query = self
@@ -506,125 +536,179 @@ impl App {
             .as_ref()
             .map(|s| s.query.trim().to_string())
             .unwrap_or_default();
+        let filter = (self.role, self.only_fits, query);
         // When the query only grew, its hits are among the last ones: search those alone.
         let narrowing = self.last_filter.as_ref().is_some_and(|(role, fits, last)| {
-            *role == self.role
-                && *fits == self.only_fits
+            *role == filter.0
+                && *fits == filter.1
                 && !last.is_empty()
-                && query.starts_with(last.as_str())
+                && filter.2.starts_with(last.as_str())
         });
-        let base: Vec<usize> = if narrowing {
-            self.visible.clone()
-        } else {
-            (0..role.candidates.len()).collect()
-        };
-        let generation = self
-            .search_generation
-            .fetch_add(1, std::sync::atomic::Ordering::Relaxed)
-            + 1;
-        if query.is_empty() || base.len() <= BACKGROUND_PARTS {
+        let base = narrowing.then(|| Arc::clone(&self.hits));
+        let length = base.as_ref().map_or(role.candidates.len(), |b| b.len());
+        if filter.2.is_empty() || length <= SEARCH_BACKGROUND {
             self.searching = None;
-            self.visible = matching(
-                &self.library,
-                role,
-                base,
-                self.only_fits,
-                &query,
-                &self.matcher,
-            );
-            self.last_filter = Some((self.role, self.only_fits, query));
-            self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
+            let hits = self.filter_here(&filter, base.as_deref().map(Vec::as_slice));
+            self.show_hits(Some(filter), hits);
             return;
         }
-        // A large list is searched on both cores off the UI thread; the keys keep working and
-        // a newer key stops this search (it checks `search_generation` as it goes). The hits
-        // on screen stay while it runs when they are hits of a shorter query; otherwise they
-        // belong to another role or an older fit and are cleared.
-        if !narrowing {
-            self.visible.clear();
+        // A long list is searched on the cores off the UI thread; the keys keep working and a
+        // newer key stops this search (it checks `search_generation` as it goes). `hits` and
+        // `last_filter` stay as they are until this search is in: still every hit of that
+        // filter, so a key typed meanwhile can narrow from them.
+        let library = Arc::clone(&self.library);
+        let fit = Arc::clone(&self.fit);
+        let newest = Arc::clone(&self.search_generation);
+        let (sender, receiver) = std::sync::mpsc::channel();
+        let (worker_filter, worker_base) = (filter.clone(), base.clone());
+        let spawned = std::thread::Builder::new()
+            .name("loadfit-search".to_string())
+            .spawn(move || {
+                let (filter, base) = (worker_filter, worker_base);
+                let Some(role) = fit.roles.get(filter.0) else {
+                    return;
+                };
+                let query = Query::new(&filter.2);
+                let wanted = Wanted {
+                    library: &library,
+                    role,
+                    only_fits: filter.1,
+                    query: &query,
+                };
+                let base = base
+                    .as_deref()
+                    .map_or(Base::All(role.candidates.len()), |b| Base::Some(b));
+                // The workbench may have moved on or ended: hits nobody waits for are dropped.
+                let first = |screen| {
+                    let _ = sender.send((generation, filter.clone(), Found::First(screen)));
+                };
+                if let Some(hits) = wanted.search(base, generation, &newest, &first) {
+                    let _ = sender.send((generation, filter.clone(), Found::All(hits)));
+                }
+            });
+        if spawned.is_err() {
+            // The system refused a thread: the search runs here, slower but complete.
+            self.searching = None;
+            let hits = self.filter_here(&filter, base.as_deref().map(Vec::as_slice));
+            self.show_hits(Some(filter), hits);
+            return;
+        }
+        // The list on screen stays until the first hits come (no blank frame between keys)
+        // when it points at this role's candidates; otherwise it goes at once.
+        if self.visible_role != Some(self.role) {
+            self.visible = Arc::default();
+            self.visible_role = Some(self.role);
             self.parts_cursor = 0;
         }
-        let only_fits = self.only_fits;
-        let items: Vec<(usize, usize)> = base
-            .into_iter()
-            .filter_map(|i| {
-                let c = role.candidates.get(i)?;
-                (!only_fits || c.verdict == Verdict::Fits).then_some((i, c.part))
-            })
-            .collect();
-        let library = std::sync::Arc::clone(&self.library);
-        let newest = std::sync::Arc::clone(&self.search_generation);
-        let (sender, receiver) = std::sync::mpsc::channel();
-        let filter = (self.role, self.only_fits, query.clone());
-        std::thread::spawn(move || {
-            if let Some(hits) = search_parts(&library, &items, &query, generation, &newest) {
-                // The workbench may have moved on or ended: hits nobody waits for are dropped.
-                let _ = sender.send((generation, filter, hits));
-            }
-        });
         self.searching = Some((generation, receiver));
     }
 
-    /// Takes in a background search's hits if they have arrived; returns whether they did.
-    fn poll_search(&mut self, wait: bool) -> bool {
-        let Some((generation, receiver)) = &self.searching else {
-            return false;
+    /// The hits of `filter` among `base` (every candidate of its role when `None`), on this
+    /// thread.
+    fn filter_here(&self, filter: &Filter, base: Option<&[usize]>) -> Vec<usize> {
+        let Some(role) = self.fit.roles.get(filter.0) else {
+            return Vec::new();
         };
-        let result = if wait {
-            receiver
-                .recv()
-                .map_err(|_| std::sync::mpsc::TryRecvError::Disconnected)
-        } else {
-            receiver.try_recv()
+        let wanted = Wanted {
+            library: &self.library,
+            role,
+            only_fits: filter.1,
+            query: &Query::new(&filter.2),
         };
-        match result {
-            Ok((done, filter, hits)) if done == *generation => {
-                self.searching = None;
-                self.visible = hits;
-                self.last_filter = Some(filter);
-                self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
-                true
-            }
-            Ok(_) | Err(std::sync::mpsc::TryRecvError::Empty) => false,
-            Err(std::sync::mpsc::TryRecvError::Disconnected) => {
-                self.searching = None;
-                false
+        wanted.matching(base.map_or(Base::All(role.candidates.len()), Base::Some))
+    }
+
+    /// Puts `hits`, every hit of `filter`, on screen and keeps them as the base to narrow from.
+    fn show_hits(&mut self, filter: Option<Filter>, hits: Vec<usize>) {
+        self.visible_role = filter.as_ref().map(|f| f.0);
+        self.last_filter = filter;
+        self.hits = Arc::new(hits);
+        self.visible = Arc::clone(&self.hits);
+        self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
+    }
+
+    /// Takes in a background search's hits as far as they have arrived, waiting as `until`
+    /// says; returns whether the list changed.
+    fn poll_search(&mut self, until: Until) -> bool {
+        let mut changed = false;
+        loop {
+            let Some((generation, receiver)) = &self.searching else {
+                return changed;
+            };
+            let wait = match until {
+                Until::Now => false,
+                // One message, the first on the channel: the first screenful if the search
+                // sent one (it goes before the rest), else all the hits.
+                Until::FirstScreenful if changed => return true,
+                Until::FirstScreenful | Until::All => true,
+            };
+            let result = if wait {
+                receiver
+                    .recv()
+                    .map_err(|_| std::sync::mpsc::TryRecvError::Disconnected)
+            } else {
+                receiver.try_recv()
+            };
+            match result {
+                Ok((done, filter, Found::First(screen))) if done == *generation => {
+                    // Shown, never narrowed from: `hits` and `last_filter` stay as they are.
+                    self.visible_role = Some(filter.0);
+                    self.visible = Arc::new(screen);
+                    self.parts_cursor = self.parts_cursor.min(self.visible.len().saturating_sub(1));
+                    changed = true;
+                }
+                Ok((done, filter, Found::All(hits))) if done == *generation => {
+                    self.searching = None;
+                    self.show_hits(Some(filter), hits);
+                    return true;
+                }
+                // Each search has its own channel, so nothing older arrives; ignored if it did.
+                Ok(_) => {}
+                Err(std::sync::mpsc::TryRecvError::Empty) => return changed,
+                Err(std::sync::mpsc::TryRecvError::Disconnected) => {
+                    // The newest search never gives up by itself: it failed.
+                    self.searching = None;
+                    self.message = Some("the search failed; type again to retry".to_string());
+                    return true;
+                }
             }
         }
     }
 
     /// Waits for a background search to finish and takes its hits in (for tests and benches).
     pub fn wait_for_search(&mut self) {
-        // Each search has its own channel: the one result it can bring is this search's.
-        self.poll_search(true);
+        self.poll_search(Until::All);
     }
 
-    /// The visible list made from every candidate, not narrowed from the last (for tests).
+    /// Waits for a background search's first screenful (or all its hits, when there are too
+    /// few for a first screenful) and shows it, leaving the rest on its way (for tests and
+    /// benches).
+    pub fn wait_for_first_screenful(&mut self) {
+        self.poll_search(Until::FirstScreenful);
+    }
+
+    /// The visible list made from every candidate on this thread, not narrowed from the last
+    /// and not handed to a worker (for tests: the hits any search must give).
     #[must_use]
     pub fn visible_from_scratch(&self) -> Vec<usize> {
-        let Some(role) = self.fit.roles.get(self.role) else {
-            return Vec::new();
-        };
         let query = self
             .search
             .as_ref()
             .map(|s| s.query.trim().to_string())
             .unwrap_or_default();
-        let all = (0..role.candidates.len()).collect();
-        matching(
-            &self.library,
-            role,
-            all,
-            self.only_fits,
-            &query,
-            &self.matcher,
-        )
+        self.filter_here(&(self.role, self.only_fits, query), None)
     }
 
     /// Indices into the selected role's candidates that the Parts panel shows.
     #[must_use]
     pub fn visible(&self) -> &[usize] {
         &self.visible
+    }
+
+    /// The fitting candidates of the role at `role` (an index into `fit.roles`).
+    #[must_use]
+    pub fn fits_in(&self, role: usize) -> usize {
+        self.fit_counts.get(role).copied().unwrap_or(0)
     }
 
     /// The candidate under the Parts cursor.
@@ -1228,15 +1312,42 @@ impl App {
     }
 }
 
-/// Where a background search's hits arrive: its number, the filter it was made for (role,
-/// fits-only, query) and the hits.
-pub type SearchResults = std::sync::mpsc::Receiver<(u64, (usize, bool, String), Vec<usize>)>;
+/// Where a background search's hits arrive: its number, the filter it was made for and the
+/// hits (the first screenful, then all of them).
+pub type SearchResults = std::sync::mpsc::Receiver<(u64, Filter, Found)>;
+
+/// Hits of a background search as they arrive.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Found {
+    /// The first [`super::search::FIRST_SCREEN`] hits in rank order, sent ahead of the rest
+    /// when the list is long; shown at once, never narrowed from.
+    First(Vec<usize>),
+    /// Every hit, in rank order.
+    All(Vec<usize>),
+}
+
+/// How long [`App::poll_search`] waits.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Until {
+    /// Not at all: takes what has arrived.
+    Now,
+    /// Until something is on screen: the first screenful or all the hits.
+    FirstScreenful,
+    /// Until all the hits are in.
+    All,
+}
 
 /// Where a background recomputation's result arrives: its number, the needs and the fit.
 pub type Results = std::sync::mpsc::Receiver<(u64, Needs, Fit)>;
 
 /// Libraries over this many parts are evaluated on a worker thread after each edit.
 pub const BACKGROUND_PARTS: usize = 50_000;
+
+/// Candidate lists over this long are searched on worker threads, shorter ones on the UI
+/// thread: about a millisecond at most (measured at a million parts, where the candidates' parts
+/// lie far apart in memory), so their hits are on the very next frame, and the tests and
+/// snapshots of small libraries see them at once.
+pub const SEARCH_BACKGROUND: usize = 5_000;
 
 /// The needs of a stage (nominal, or at their worst corners carrying the nominal values for the
 /// side-by-side view) and the fit of the library against them.
@@ -1260,129 +1371,4 @@ fn evaluate(
 pub fn autosave_path_for(stage: &std::path::Path) -> Option<PathBuf> {
     let name = stage.file_name()?.to_string_lossy();
     Some(stage.with_file_name(format!(".{name}.autosave")))
-}
-
-/// The candidates of `base` (indices into `role`'s candidates) that pass the fits-only filter
-/// and match `query`, in their ranked order.
-fn matching(
-    library: &Library,
-    role: &fit::RoleFit,
-    base: Vec<usize>,
-    only_fits: bool,
-    query: &str,
-    matcher: &SkimMatcherV2,
-) -> Vec<usize> {
-    let lower = query.to_lowercase();
-    base.into_iter()
-        .filter(|&i| {
-            role.candidates.get(i).is_some_and(|c| {
-                (!only_fits || c.verdict == Verdict::Fits)
-                    && (query.is_empty() || part_matches(library, matcher, c.part, query, &lower))
-            })
-        })
-        .collect()
-}
-
-/// Whether a part matches a non-empty query: the cheap subsequence test first, then the
-/// fuzzy scorer. The one test of the search, on the UI thread and on the workers alike.
-fn part_matches(
-    library: &Library,
-    matcher: &SkimMatcherV2,
-    part: usize,
-    query: &str,
-    lower: &str,
-) -> bool {
-    could_match(library, part, lower)
-        && matcher
-            .fuzzy_match(&search_text(library, part), query)
-            .is_some()
-}
-
-/// The items (candidate index, part index) whose part matches `query`, in order, searched on
-/// every core; `None` when search `generation` is no longer the `newest`.
-fn search_parts(
-    library: &Library,
-    items: &[(usize, usize)],
-    query: &str,
-    generation: u64,
-    newest: &std::sync::atomic::AtomicU64,
-) -> Option<Vec<usize>> {
-    let lower = query.to_lowercase();
-    let stale = || newest.load(std::sync::atomic::Ordering::Relaxed) != generation;
-    let threads = std::thread::available_parallelism()
-        .map_or(1, |t| t.get())
-        .clamp(1, 8);
-    let chunk = items.len().div_ceil(threads).max(1);
-    let scan = |share: &[(usize, usize)]| -> Option<Vec<usize>> {
-        let matcher = SkimMatcherV2::default();
-        let mut hits = Vec::new();
-        for (n, &(i, part)) in share.iter().enumerate() {
-            if n % 4096 == 0 && stale() {
-                return None;
-            }
-            if part_matches(library, &matcher, part, query, &lower) {
-                hits.push(i);
-            }
-        }
-        Some(hits)
-    };
-    let shares: Vec<Option<Vec<usize>>> = std::thread::scope(|scope| {
-        let handles: Vec<_> = items
-            .chunks(chunk)
-            .map(|share| scope.spawn(move || scan(share)))
-            .collect();
-        handles
-            .into_iter()
-            .map(|h| h.join().unwrap_or(None))
-            .collect()
-    });
-    let mut hits = Vec::new();
-    for share in shares {
-        hits.extend(share?);
-    }
-    (!stale()).then_some(hits)
-}
-
-/// Whether the letters of `lower` (a lower-case query, spaces ignored) appear in order in the
-/// part's search text, ignoring case: a test without allocation that every fuzzy match passes,
-/// so the scorer runs only on parts that can match.
-fn could_match(library: &Library, part: usize, lower: &str) -> bool {
-    let Some(p) = library.parts.get(part) else {
-        return false;
-    };
-    let mut wanted = lower.chars().filter(|c| !c.is_whitespace()).peekable();
-    let fields = [
-        &*p.number,
-        library.text(p.maker),
-        library.text(p.package),
-        &*p.notes,
-        &*p.tags,
-    ];
-    for field in fields {
-        for c in field.chars() {
-            match wanted.peek() {
-                None => return true,
-                Some(&w) if c.to_lowercase().eq(std::iter::once(w)) || c == w => {
-                    wanted.next();
-                }
-                Some(_) => {}
-            }
-        }
-    }
-    wanted.peek().is_none()
-}
-
-/// The text a part is searched by: number, maker, package, notes and tags.
-#[must_use]
-pub fn search_text(library: &Library, part: usize) -> String {
-    library.parts.get(part).map_or_else(String::new, |p| {
-        format!(
-            "{} {} {} {} {}",
-            p.number,
-            library.text(p.maker),
-            library.text(p.package),
-            p.notes,
-            p.tags
-        )
-    })
 }

@@ -503,10 +503,10 @@ fn the_load_gauge_names_rows_megabytes_and_rate() {
     );
 }
 
-#[test]
-fn a_large_list_is_searched_off_the_ui_thread_with_the_same_hits() {
+/// A workbench over `rows` generated parts and the door-strike stage, its fit done.
+fn door_strike_app(rows: u64, seed: u64) -> App {
     let mut text = Vec::new();
-    crate::synthetic::write_library(&mut text, 160_000, 11).unwrap();
+    crate::synthetic::write_library(&mut text, rows, seed).unwrap();
     let mut library = Library::new();
     library.add_bytes("big.csv", &text).unwrap();
     let doc = StageDoc::parse(
@@ -516,13 +516,19 @@ fn a_large_list_is_searched_off_the_ui_thread_with_the_same_hits() {
     .unwrap();
     let mut app = App::new(library, Vec::new(), doc, None);
     app.wait_for_background();
+    app
+}
+
+#[test]
+fn a_large_list_is_searched_off_the_ui_thread_with_the_same_hits() {
+    let mut app = door_strike_app(40_000, 11);
     app.update(Action::Panel(3));
     let role = app
         .fit
         .roles
         .iter()
-        .position(|r| r.candidates.len() > super::app::BACKGROUND_PARTS)
-        .expect("a role with a large candidate list");
+        .position(|r| r.candidates.len() > super::app::SEARCH_BACKGROUND)
+        .expect("a role with a long candidate list");
     app.role = role;
     app.refilter();
     app.update(Action::StartSearch);
@@ -548,4 +554,41 @@ fn a_large_list_is_searched_off_the_ui_thread_with_the_same_hits() {
     assert_eq!(app.visible(), app.visible_from_scratch().as_slice());
     assert_eq!(app.search.as_ref().map(|s| s.query.as_str()), Some("lx7"));
     assert!(!render(&app, 140, 32).contains("searching"));
+}
+
+#[test]
+fn a_long_search_shows_its_first_screenful_then_every_hit() {
+    use super::search::FIRST_SCREEN;
+    let mut app = door_strike_app(40_000, 12);
+    app.update(Action::Panel(2));
+    assert!(app.fit.roles[0].candidates.len() > super::app::SEARCH_BACKGROUND);
+    app.update(Action::StartSearch);
+    app.update(Action::Type('s'));
+    assert!(app.searching.is_some(), "searched on the workers");
+    app.wait_for_search();
+    assert_eq!(app.visible(), app.visible_from_scratch().as_slice());
+    // "sq" narrows from every hit of "s"; its first screenful is shown ahead of the rest.
+    app.update(Action::Type('q'));
+    app.wait_for_first_screenful();
+    let all = app.visible_from_scratch();
+    assert!(all.len() > FIRST_SCREEN, "{}", all.len());
+    assert_eq!(app.visible(), &all[..FIRST_SCREEN]);
+    assert!(app.searching.is_some(), "the rest is on its way");
+    let screen = render(&app, 140, 32);
+    assert!(screen.contains("searching"), "{screen}");
+    assert!(screen.contains(&format!("{FIRST_SCREEN} of ")), "{screen}");
+    // A key typed while only the first screenful is shown narrows from every hit of "s",
+    // never from the screenful: a hit below it would be lost.
+    app.update(Action::Type('n'));
+    app.wait_for_search();
+    let all = app.visible_from_scratch();
+    assert!(all.len() > FIRST_SCREEN, "{}", all.len());
+    assert_eq!(app.visible(), all.as_slice());
+    assert!(!render(&app, 140, 32).contains("searching"));
+    // Backspace, and the same key again before the wider search is in: what is on screen
+    // then is no base to narrow from, the last full list is.
+    app.update(Action::Backspace);
+    app.update(Action::Type('n'));
+    app.wait_for_search();
+    assert_eq!(app.visible(), app.visible_from_scratch().as_slice());
 }

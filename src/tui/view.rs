@@ -487,7 +487,7 @@ fn parts(frame: &mut Frame<'_>, app: &App, theme: Theme, area: Rect, focused: bo
         roles.join(" "),
         app.visible().len(),
         role.candidates.len(),
-        role.fits(),
+        app.fits_in(app.role),
         app.sort.name(),
         filter
     );
