@@ -593,14 +593,21 @@ fn ranked_candidates(
             .map_or(1, |t| t.get())
             .min(8)
     };
-    ranked_candidates_on(stage, needs, library, role, sort, threads)
+    ranked_candidates_on(stage, needs, library, role, sort, threads, PIECE)
 }
+
+/// Parts of a role dealt to one thread at a time while evaluating a large library.
+const PIECE: usize = 4096;
+
+/// A piece of a role's list: the place of its first part, the parts' indices, and where their
+/// briefs and sort keys go.
+type Piece<'a> = (usize, &'a [u32], &'a mut [Brief], &'a mut [u128]);
 
 /// Roles with at least this many candidates are evaluated on all cores: below, starting
 /// threads costs more than it saves.
 const SHARE_FROM: usize = 50_000;
 
-/// [`ranked_candidates`] on this many threads.
+/// [`ranked_candidates`] on this many threads, dealing them pieces of `piece` parts.
 fn ranked_candidates_on(
     stage: &Stage,
     needs: &Needs,
@@ -608,13 +615,14 @@ fn ranked_candidates_on(
     role: Role,
     sort: SortKey,
     threads: usize,
+    piece: usize,
 ) -> Vec<Candidate> {
+    let piece = piece.max(1);
     // The key of a part the list names but the library does not have (it cannot happen: the
     // kind lists index this library): no real key is all ones (positions stay below 2^23).
     const MISSING: u128 = u128::MAX;
     let indices = role_parts(stage, library, role);
     let n = indices.len();
-    let chunk = n.div_ceil(threads.max(1)).max(1);
     let mut briefs: Vec<Brief> = vec![[0; 3]; n];
     let mut keys: Vec<u128> = vec![0; n];
     let lookup = checks::NeedLookup::new(needs);
@@ -641,6 +649,9 @@ fn ranked_candidates_on(
             }
             std::hint::black_box(touched);
             for ((&i, brief_slot), key_slot) in indices.iter().zip(briefs).zip(keys) {
+                // The key's position is the brief's place, whether or not the part is there.
+                let at = position;
+                position += 1;
                 let Some(part) = library.parts.get(i as usize) else {
                     *key_slot = MISSING;
                     continue;
@@ -655,27 +666,41 @@ fn ranked_candidates_on(
                     c.verdict,
                     c.score,
                     c.headroom,
-                    position,
+                    at,
                 );
-                position += 1;
             }
         }
     };
-    let finished = threads > 1
-        && std::thread::scope(|scope| {
-            let handles: Vec<_> = indices
-                .chunks(chunk)
-                .zip(briefs.chunks_mut(chunk))
-                .zip(keys.chunks_mut(chunk))
-                .enumerate()
-                .map(|(t, ((indices, briefs), keys))| {
-                    scope.spawn(move || scan(t * chunk, indices, briefs, keys))
+    // The role's list is cut in pieces dealt to the threads in turn, so that each thread gets
+    // a like mix of kinds (a BJT and a MOSFET do not cost the same to check).
+    let finished = threads > 1 && {
+        let mut shares: Vec<Vec<Piece>> = (0..threads).map(|_| Vec::new()).collect();
+        let pieces = indices
+            .chunks(piece)
+            .zip(briefs.chunks_mut(piece))
+            .zip(keys.chunks_mut(piece))
+            .enumerate();
+        for (p, ((indices, briefs), keys)) in pieces {
+            shares[p % threads].push((p * piece, indices, briefs, keys));
+        }
+        std::thread::scope(|scope| {
+            let handles: Vec<_> = shares
+                .into_iter()
+                .map(|share| {
+                    std::thread::Builder::new().spawn_scoped(scope, move || {
+                        for (first, indices, briefs, keys) in share {
+                            scan(first, indices, briefs, keys);
+                        }
+                    })
                 })
                 .collect();
-            // A scan thread only evaluates parts and cannot panic on library data; should
-            // one fail anyway, the whole role is evaluated again on this thread.
-            handles.into_iter().all(|h| h.join().is_ok())
-        });
+            // A scan thread only evaluates parts and cannot panic on library data, but the
+            // system may refuse a thread: then the whole role is evaluated on this one.
+            handles
+                .into_iter()
+                .all(|h| h.is_ok_and(|h| h.join().is_ok()))
+        })
+    };
     if !finished {
         scan(0, &indices, &mut briefs, &mut keys);
     }
@@ -796,7 +821,7 @@ mod tests {
 
     /// A large library's ranking (evaluated in shares, keys sorted, candidates written once)
     /// gives the same list as evaluating every part with its checks and ranking with
-    /// [`rank::rank`], for every sort key and on one, two and three threads.
+    /// [`rank::rank`], for every sort key, on one to three threads dealt pieces of any size.
     #[test]
     fn large_ranking_equals_the_full_one() {
         let mut text = Vec::new();
@@ -819,10 +844,11 @@ mod tests {
                         c.checks = Checks::default();
                     }
                     assert!(!full.is_empty(), "{role:?}");
-                    for threads in 1..=3 {
-                        let large =
-                            ranked_candidates_on(&stage, &needs, &library, role, sort, threads);
-                        assert_eq!(large, full, "{role:?} by {sort:?} on {threads} threads");
+                    for (threads, piece) in [(1, PIECE), (2, PIECE), (2, 100), (3, 7)] {
+                        let large = ranked_candidates_on(
+                            &stage, &needs, &library, role, sort, threads, piece,
+                        );
+                        assert_eq!(large, full, "{role:?} by {sort:?}, {threads} threads");
                     }
                 }
             }

@@ -245,7 +245,9 @@ pub(crate) fn sort_keys_on(keys: &mut [u128], threads: usize) {
     let chunk = keys.len().div_ceil(threads);
     std::thread::scope(|scope| {
         for share in keys.chunks_mut(chunk) {
-            scope.spawn(move || share.sort_unstable());
+            // Should the system refuse a thread, its share is sorted by the merge below
+            // all the same (the stable sort takes any order, only slower).
+            let _ = std::thread::Builder::new().spawn_scoped(scope, move || share.sort_unstable());
         }
     });
     keys.sort();
