@@ -538,7 +538,7 @@ fn candidates(stage: &Stage, needs: &Needs, library: &Library, role: Role) -> Ve
 
 /// A candidate as a large ranking first holds it, beside its sort key: the part's index,
 /// the verdict and whether there is a headroom in one word, then the score and the headroom
-/// as bits. 24 bytes where a [`Candidate`] takes 72, and all zeros, so the allocator hands
+/// as bits. 24 bytes where a [`Candidate`] takes 48, and all zeros, so the allocator hands
 /// the vector out zeroed and each core first touches its own share of it.
 type Brief = [u64; 3];
 
@@ -586,14 +586,15 @@ fn ranked_candidates(
     role: Role,
     sort: SortKey,
 ) -> Vec<Candidate> {
-    let threads = if role_parts(stage, library, role).len() < SHARE_FROM {
+    let indices = role_parts(stage, library, role);
+    let threads = if indices.len() < SHARE_FROM {
         1
     } else {
         std::thread::available_parallelism()
             .map_or(1, |t| t.get())
             .min(8)
     };
-    ranked_candidates_on(stage, needs, library, role, sort, threads, PIECE)
+    ranked_candidates_on(stage, needs, library, role, &indices, sort, threads, PIECE)
 }
 
 /// Parts of a role dealt to one thread at a time while evaluating a large library.
@@ -607,12 +608,15 @@ type Piece<'a> = (usize, &'a [u32], &'a mut [Brief], &'a mut [u128]);
 /// threads costs more than it saves.
 const SHARE_FROM: usize = 50_000;
 
-/// [`ranked_candidates`] on this many threads, dealing them pieces of `piece` parts.
+/// [`ranked_candidates`] of the parts at `indices` (the role's, from [`role_parts`]) on this
+/// many threads, dealing them pieces of `piece` parts.
+#[allow(clippy::too_many_arguments)]
 fn ranked_candidates_on(
     stage: &Stage,
     needs: &Needs,
     library: &Library,
     role: Role,
+    indices: &[u32],
     sort: SortKey,
     threads: usize,
     piece: usize,
@@ -621,7 +625,6 @@ fn ranked_candidates_on(
     // The key of a part the list names but the library does not have (it cannot happen: the
     // kind lists index this library): no real key is all ones (positions stay below 2^23).
     const MISSING: u128 = u128::MAX;
-    let indices = role_parts(stage, library, role);
     let n = indices.len();
     let mut briefs: Vec<Brief> = vec![[0; 3]; n];
     let mut keys: Vec<u128> = vec![0; n];
@@ -702,7 +705,7 @@ fn ranked_candidates_on(
         })
     };
     if !finished {
-        scan(0, &indices, &mut briefs, &mut keys);
+        scan(0, indices, &mut briefs, &mut keys);
     }
     rank::sort_keys_on(&mut keys, threads);
     keys.iter()
@@ -733,14 +736,29 @@ pub fn evaluate(stage: &Stage, needs: &Needs, library: &Library, sort: SortKey) 
                 }
                 candidates
             };
-            // The needs this role's parts are held against, in the needs' order (only the
-            // first places of a large library have their checks).
+            // The needs this role's parts are held against, in the needs' order. In a large
+            // library only the first places have their checks, and they may all be of one
+            // kind: the first part of every kind of the role is looked at as well.
             let mut seen: Vec<&'static str> = Vec::new();
-            let with_checks = if detail { usize::MAX } else { DETAIL_RANKS };
-            for c in candidates.iter().take(with_checks) {
-                for k in &c.checks {
+            let mut note = |checks: &[Check]| {
+                for k in checks {
                     if !seen.contains(&k.need) {
                         seen.push(k.need);
+                    }
+                }
+            };
+            let with_checks = if detail { usize::MAX } else { DETAIL_RANKS };
+            for c in candidates.iter().take(with_checks) {
+                note(&c.checks);
+            }
+            if !detail {
+                let firsts = Kind::ALL
+                    .into_iter()
+                    .filter(|&kind| kind_fits_role(stage, role, kind))
+                    .filter_map(|kind| library.parts_of_kind(kind).first());
+                for &i in firsts {
+                    if let Some(c) = evaluate_part(stage, needs, library, role, i as usize) {
+                        note(&c.checks);
                     }
                 }
             }
@@ -845,8 +863,9 @@ mod tests {
                     }
                     assert!(!full.is_empty(), "{role:?}");
                     for (threads, piece) in [(1, PIECE), (2, PIECE), (2, 100), (3, 7)] {
+                        let indices = role_parts(&stage, &library, role);
                         let large = ranked_candidates_on(
-                            &stage, &needs, &library, role, sort, threads, piece,
+                            &stage, &needs, &library, role, &indices, sort, threads, piece,
                         );
                         assert_eq!(large, full, "{role:?} by {sort:?}, {threads} threads");
                     }

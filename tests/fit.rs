@@ -270,3 +270,56 @@ fn large_libraries_rank_without_holding_every_check() {
         .collect();
     assert_eq!(held, can);
 }
+
+/// A large library lists the needs its role's parts are held against as a full evaluation
+/// would, even where the first places are all of one kind (door strike: NPNs and N-MOSFETs,
+/// and only the MOSFETs are held against the gate needs).
+#[test]
+fn large_libraries_list_every_need_their_parts_are_held_against() {
+    let mut text = Vec::new();
+    loadfit::synthetic::write_library(&mut text, 30_000, 11).unwrap();
+    let mut library = Library::new();
+    library.add_bytes("big.csv", &text).unwrap();
+    assert!(library.parts.len() > fit::FULL_DETAIL_PARTS);
+    let stage = Stage::read(std::path::Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/data/stages/door-strike.toml"
+    )))
+    .unwrap();
+    let needs = needs::compute(&stage, Some(&library));
+    // By part number the first places are all of the kind whose numbers sort first.
+    let result = fit::evaluate(&stage, &needs, &library, SortKey::Part);
+    let switch = result.role(Role::Switch).unwrap();
+    let first_kind = library.parts[switch.candidates[0].part].kind;
+    assert!(
+        switch.candidates[..fit::DETAIL_RANKS]
+            .iter()
+            .all(|c| library.parts[c.part].kind == first_kind),
+        "the first places are of one kind"
+    );
+    for role in &result.roles {
+        let mut seen: Vec<&str> = Vec::new();
+        for i in 0..library.parts.len() {
+            if let Some(c) = fit::evaluate_part(&stage, &needs, &library, role.role, i) {
+                for k in c.checks.iter() {
+                    if !seen.contains(&k.need) {
+                        seen.push(k.need);
+                    }
+                }
+            }
+        }
+        let expected: Vec<&str> = needs
+            .needs
+            .iter()
+            .map(|n| n.id)
+            .filter(|id| seen.contains(id))
+            .collect();
+        assert_eq!(role.needs, expected, "{:?}", role.role);
+    }
+    let switch = result.role(Role::Switch).unwrap();
+    assert!(
+        switch.needs.contains(&"switch.gate_drive"),
+        "{:?}",
+        switch.needs
+    );
+}
