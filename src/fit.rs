@@ -707,12 +707,30 @@ fn ranked_candidates_on(
     if !finished {
         scan(0, indices, &mut briefs, &mut keys);
     }
+    // Ranks stay below `limits::MAX_ROWS`, well inside u32.
+    let rank_of = |r: usize| r as u32 + 1;
+    if sort == SortKey::Score {
+        // Sorting by score, 64 bits a key hold the same order: half the bytes to sort.
+        let short: Option<Vec<u64>> = keys
+            .iter()
+            .zip(&briefs)
+            .filter(|(k, _)| **k != MISSING)
+            .map(|(&k, b)| rank::score_key(k, f64::from_bits(b[1])))
+            .collect();
+        if let Some(mut short) = short {
+            rank::sort_keys_on(&mut short, threads);
+            return short
+                .iter()
+                .enumerate()
+                .map(|(r, &k)| unbrief(&briefs[rank::score_key_position(k)], rank_of(r)))
+                .collect();
+        }
+    }
     rank::sort_keys_on(&mut keys, threads);
     keys.iter()
         .take_while(|&&k| k != MISSING)
         .enumerate()
-        // Ranks stay below `limits::MAX_ROWS`, well inside u32.
-        .map(|(r, &k)| unbrief(&briefs[rank::position(k)], r as u32 + 1))
+        .map(|(r, &k)| unbrief(&briefs[rank::position(k)], rank_of(r)))
         .collect()
 }
 

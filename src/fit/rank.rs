@@ -224,6 +224,27 @@ pub(crate) fn position(key: u128) -> usize {
     (key & MASK) as usize
 }
 
+/// A [`sort_key`] by score in 64 bits, where the score allows: group (2 bits), the score in
+/// tenths as 16 bits, highest first (scores are rounded to tenths, so this orders as the
+/// score does), place (23) and position (23). Half the bytes to sort; `None` for a score
+/// outside ±3276.7 (a price beyond reason), which the 128-bit key sorts instead.
+pub(crate) fn score_key(key: u128, score: f64) -> Option<u64> {
+    let tenths = (score * 10.0).round();
+    if !(-32767.0..=32767.0).contains(&tenths) {
+        return None;
+    }
+    // Within ±32767 by the test above: the cast is exact.
+    let class = (32767 - tenths as i64) as u64;
+    let group = (key >> (64 + 2 * BITS)) as u64 & 0b11;
+    let place_and_position = (key & ((1 << (2 * BITS)) - 1)) as u64;
+    Some((group << 62) | (class << (2 * BITS)) | place_and_position)
+}
+
+/// The position a [`score_key`] was made with.
+pub(crate) fn score_key_position(key: u64) -> usize {
+    (key & ((1 << BITS) - 1)) as usize
+}
+
 /// Sorts distinct keys: a long list in one share a core, then the sorted shares merged (the
 /// standard stable sort merges runs it finds already in order, in one pass).
 pub(crate) fn sort_keys(keys: &mut [u128]) {
@@ -237,7 +258,7 @@ pub(crate) fn sort_keys(keys: &mut [u128]) {
 }
 
 /// [`sort_keys`] in `threads` shares.
-pub(crate) fn sort_keys_on(keys: &mut [u128], threads: usize) {
+pub(crate) fn sort_keys_on<K: Ord + Copy + Send>(keys: &mut [K], threads: usize) {
     if threads <= 1 || keys.len() < 2 {
         keys.sort_unstable();
         return;
@@ -382,5 +403,59 @@ mod tests {
         keys.truncate(1);
         sort_keys_on(&mut keys, 2);
         assert_eq!(keys.len(), 1);
+    }
+
+    /// 64-bit score keys order as the 128-bit keys they come from, and refuse a score they
+    /// cannot hold.
+    #[test]
+    fn score_keys_order_as_the_full_keys() {
+        let order: Vec<u32> = (0..64).rev().collect();
+        let scores = [
+            100.0, 99.9, 87.3, 87.3, 0.0, -0.0, -12.5, -3276.7, 3276.7, 55.5,
+        ];
+        let verdicts = [
+            Verdict::Fits,
+            Verdict::Near,
+            Verdict::Unknown,
+            Verdict::Short,
+        ];
+        let mut full = Vec::new();
+        for (i, &score) in scores.iter().enumerate() {
+            for (j, &verdict) in verdicts.iter().enumerate() {
+                let index = i * 4 + j;
+                let key = sort_key(
+                    SortKey::Score,
+                    &order,
+                    index,
+                    None,
+                    verdict,
+                    score,
+                    None,
+                    index,
+                );
+                full.push((key, score_key(key, score).expect("a score in range")));
+            }
+        }
+        let mut by_full = full.clone();
+        by_full.sort_by_key(|&(k, _)| k);
+        let mut by_short = full.clone();
+        by_short.sort_by_key(|&(_, s)| s);
+        assert_eq!(by_full, by_short);
+        for &(k, s) in &full {
+            assert_eq!(position(k), score_key_position(s));
+        }
+        let key = sort_key(
+            SortKey::Score,
+            &order,
+            0,
+            None,
+            Verdict::Fits,
+            -4000.0,
+            None,
+            0,
+        );
+        assert_eq!(score_key(key, -4000.0), None);
+        assert_eq!(score_key(key, f64::NEG_INFINITY), None);
+        assert_eq!(score_key(key, f64::NAN), None);
     }
 }
