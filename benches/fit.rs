@@ -22,7 +22,7 @@ fn library(rows: u64) -> Library {
     library
 }
 
-#[divan::bench(args = [100_000, 1_000_000], sample_count = 10)]
+#[divan::bench(args = [100_000, 1_000_000], sample_count = 30)]
 fn needs_evaluate_rank(bencher: divan::Bencher, rows: u64) {
     let library = library(rows);
     let stage = Stage::from_toml(STAGE, "door-strike.toml").expect("the demo stage reads");

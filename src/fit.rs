@@ -495,12 +495,29 @@ pub fn fill_checks(
 /// themselves are not kept (the caller keeps them when it wants the detail).
 fn judge(part: &Part, index: usize, tally: &Tally) -> Candidate {
     let headroom = tally.headroom();
+    let score = rank::score_with(part, tally.quantity(), headroom);
+    judged(index, tally, score)
+}
+
+/// As [`judge`], the price's points taken from a ranking thread's table.
+fn judge_remembering(
+    part: &Part,
+    index: usize,
+    tally: &Tally,
+    prices: &mut rank::PricePoints,
+) -> Candidate {
+    let points = prices.get(part.price.get());
+    let score = rank::score_from(part, tally.quantity(), tally.headroom(), points);
+    judged(index, tally, score)
+}
+
+fn judged(index: usize, tally: &Tally, score: f64) -> Candidate {
     Candidate {
         part: index,
         verdict: tally.verdict(),
         checks: Checks::default(),
-        score: rank::score_with(part, tally.quantity(), headroom),
-        headroom,
+        score,
+        headroom: tally.headroom(),
         rank: 0,
     }
 }
@@ -630,7 +647,11 @@ fn ranked_candidates_on(
     let mut keys: Vec<u128> = vec![0; n];
     let lookup = checks::NeedLookup::new(needs);
     let order = library.number_order();
-    let scan = |first: usize, indices: &[u32], briefs: &mut [Brief], keys: &mut [u128]| {
+    let scan = |first: usize,
+                indices: &[u32],
+                briefs: &mut [Brief],
+                keys: &mut [u128],
+                prices: &mut rank::PricePoints| {
         let blocks = indices
             .chunks(TOUCH_AHEAD)
             .zip(briefs.chunks_mut(TOUCH_AHEAD))
@@ -659,7 +680,8 @@ fn ranked_candidates_on(
                     *key_slot = MISSING;
                     continue;
                 };
-                let c = judge(part, i as usize, &checks::tally(stage, &lookup, role, part));
+                let tally = checks::tally(stage, &lookup, role, part);
+                let c = judge_remembering(part, i as usize, &tally, prices);
                 *brief_slot = brief(&c);
                 *key_slot = rank::sort_key(
                     sort,
@@ -691,8 +713,9 @@ fn ranked_candidates_on(
                 .into_iter()
                 .map(|share| {
                     std::thread::Builder::new().spawn_scoped(scope, move || {
+                        let mut prices = rank::PricePoints::new();
                         for (first, indices, briefs, keys) in share {
-                            scan(first, indices, briefs, keys);
+                            scan(first, indices, briefs, keys, &mut prices);
                         }
                     })
                 })
@@ -705,7 +728,13 @@ fn ranked_candidates_on(
         })
     };
     if !finished {
-        scan(0, indices, &mut briefs, &mut keys);
+        scan(
+            0,
+            indices,
+            &mut briefs,
+            &mut keys,
+            &mut rank::PricePoints::new(),
+        );
     }
     // Ranks stay below `limits::MAX_ROWS`, well inside u32.
     let rank_of = |r: usize| r as u32 + 1;

@@ -184,11 +184,13 @@ impl<'a> NeedLookup<'a> {
         }
     }
 
+    #[inline]
     fn slot(address: usize, len: usize) -> usize {
         // Texts are at least byte-aligned and a few bytes apart: mix the low bits.
         ((address >> 2) ^ (address >> 9)) & (len - 1)
     }
 
+    #[inline]
     fn position(&self, id: &str) -> Option<usize> {
         let address = id.as_ptr() as usize;
         let mut s = Self::slot(address, self.slots.len());
@@ -207,12 +209,14 @@ impl<'a> NeedLookup<'a> {
 
     /// The need with this id (as [`Needs::get`]).
     #[must_use]
+    #[inline]
     pub fn get(&self, id: &str) -> Option<&'a Need> {
         self.position(id).and_then(|i| self.needs.needs.get(i))
     }
 
     /// The value of the need with this id (as [`Needs::value`]).
     #[must_use]
+    #[inline]
     pub fn value(&self, id: &str) -> Option<f64> {
         self.position(id)
             .and_then(|i| self.values.get(i).copied().flatten())

@@ -92,6 +92,60 @@ pub fn score_of(part: &Part, checks: &[super::Check], headroom: Option<f64>) -> 
 /// The score of a part whose stock is held against `quantity`, with this smallest headroom.
 #[must_use]
 pub fn score_with(part: &Part, quantity: f64, headroom: Option<f64>) -> f64 {
+    score_from(part, quantity, headroom, price_points(part.price.get()))
+}
+
+/// The points a part loses for its price (8 when the price is not given).
+fn price_points(price: Option<f64>) -> f64 {
+    price.map_or(8.0, |p| 6.0 * p.max(0.0).ln_1p())
+}
+
+/// [`price_points`] remembered for the prices last seen: a library's prices repeat (whole
+/// cents, a few thousand values among a million parts), and the logarithm is the dearest
+/// step of a part's score. A direct-mapped table of 4096 prices, 64 KiB, one for each thread
+/// of a ranking; a price not in it is worked out and takes its slot. The points are exactly
+/// [`price_points`]'s.
+pub(crate) struct PricePoints {
+    slots: Vec<(u64, f64)>,
+}
+
+impl PricePoints {
+    const SLOTS: usize = 4096;
+
+    /// An empty table.
+    pub(crate) fn new() -> PricePoints {
+        // No price has the bits of NaN with this payload, so every slot starts empty.
+        PricePoints {
+            slots: vec![(u64::MAX, 0.0); Self::SLOTS],
+        }
+    }
+
+    /// [`price_points`] of `price`.
+    #[inline]
+    pub(crate) fn get(&mut self, price: Option<f64>) -> f64 {
+        let Some(p) = price else {
+            return price_points(None);
+        };
+        let bits = p.to_bits();
+        if bits == u64::MAX {
+            return price_points(price);
+        }
+        // Mix the bits (Fibonacci hashing) so prices a cent apart spread over the table.
+        let slot = (bits.wrapping_mul(0x9E37_79B9_7F4A_7C15) >> 52) as usize & (Self::SLOTS - 1);
+        match self.slots.get_mut(slot) {
+            Some(&mut (held, points)) if held == bits => points,
+            Some(entry) => {
+                let points = price_points(price);
+                *entry = (bits, points);
+                points
+            }
+            None => price_points(price),
+        }
+    }
+}
+
+/// [`score_with`] with the price's points given.
+pub(crate) fn score_from(part: &Part, quantity: f64, headroom: Option<f64>, price: f64) -> f64 {
     let status = match part.status {
         Status::Active => 0.0,
         Status::Nrnd => 15.0,
@@ -104,7 +158,6 @@ pub fn score_with(part: &Part, quantity: f64, headroom: Option<f64>) -> f64 {
         Some(s) if (s as f64) < 10.0 * quantity => 3.0,
         Some(_) => 0.0,
     };
-    let price = part.price.get().map_or(8.0, |p| 6.0 * p.max(0.0).ln_1p());
     let raw = 100.0 - status - stock - price - headroom_penalty(headroom);
     (raw * 10.0).round() / 10.0
 }
@@ -457,5 +510,32 @@ mod tests {
         assert_eq!(score_key(key, -4000.0), None);
         assert_eq!(score_key(key, f64::NEG_INFINITY), None);
         assert_eq!(score_key(key, f64::NAN), None);
+    }
+
+    /// The remembered price points are the points worked out, for prices seen once, again,
+    /// after their slot was taken by another, and for no price.
+    #[test]
+    fn remembered_price_points_are_exact() {
+        let mut table = PricePoints::new();
+        let prices: Vec<Option<f64>> = (0..20_000)
+            .map(|i| Some(f64::from(i % 7001) * 0.001))
+            .chain([
+                None,
+                Some(0.0),
+                Some(-0.0),
+                Some(-1.0),
+                Some(1e300),
+                Some(f64::INFINITY),
+            ])
+            .collect();
+        for _ in 0..2 {
+            for &price in &prices {
+                assert_eq!(
+                    table.get(price).to_bits(),
+                    price_points(price).to_bits(),
+                    "{price:?}"
+                );
+            }
+        }
     }
 }
