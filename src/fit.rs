@@ -264,6 +264,28 @@ impl Tally {
         headroom: Option<f64>,
         required: Option<f64>,
     ) {
+        // Part rules (stock, status) are not ratings: a part's headroom is over its ratings.
+        if need.starts_with("part.") {
+            self.count_verdict(verdict, headroom);
+            if need == checks::ids_part::STOCK {
+                self.quantity = required;
+            }
+        } else {
+            self.count_rating(verdict, headroom);
+        }
+    }
+
+    /// Counts one more check of a rating (not a part rule).
+    #[inline]
+    pub(crate) fn count_rating(&mut self, verdict: CheckVerdict, headroom: Option<f64>) {
+        self.count_verdict(verdict, headroom);
+        if let Some(h) = headroom {
+            self.headroom = Some(self.headroom.map_or(h, |a| a.min(h)));
+        }
+    }
+
+    #[inline]
+    fn count_verdict(&mut self, verdict: CheckVerdict, headroom: Option<f64>) {
         match verdict {
             CheckVerdict::Short => {
                 if self.shorts == 0 {
@@ -273,14 +295,6 @@ impl Tally {
             }
             CheckVerdict::Unknown => self.unknown = true,
             CheckVerdict::Pass => {}
-        }
-        // Part rules (stock, status) are not ratings: a part's headroom is over its ratings.
-        if need.starts_with("part.") {
-            if need == checks::ids_part::STOCK {
-                self.quantity = required;
-            }
-        } else if let Some(h) = headroom {
-            self.headroom = Some(self.headroom.map_or(h, |a| a.min(h)));
         }
     }
 

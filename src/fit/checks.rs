@@ -292,7 +292,7 @@ impl Out {
                 .push(compare(id, name, rating, required, dim, bound));
         } else {
             let (verdict, headroom) = hold(rating, required, bound);
-            self.tally.count(id, verdict, headroom, required);
+            self.tally.count_rating(verdict, headroom);
         }
     }
 
@@ -864,11 +864,11 @@ fn part_rules(stage: &Stage, part: &Part, checks: &mut Out) {
         Dim::Number,
     );
     if stock.verdict == CheckVerdict::Short {
-        stock.note = Cow::Owned(format!(
-            "{} in stock, {} needed",
-            part.stock.unwrap_or(0),
-            quantity
-        ));
+        // Written only with the detail: a ranking need not format a sentence for every part
+        // short of stock.
+        stock = checks.note(stock, || {
+            format!("{} in stock, {} needed", part.stock.unwrap_or(0), quantity)
+        });
     }
     checks.push(stock);
     if stage.rules.require_rohs {
