@@ -23,12 +23,7 @@ fn main() {
 const STAGE: &str = include_str!("../data/stages/door-strike.toml");
 
 fn library(rows: u64) -> Library {
-    let mut text = Vec::new();
-    // Writing into a Vec cannot fail.
-    loadfit::synthetic::write_library(&mut text, rows, 1).unwrap_or_default();
-    let mut library = Library::new();
-    let _ = library.add_bytes("bench.csv", &text);
-    library
+    loadfit::synthetic::library(rows, 1).expect("a generated library reads")
 }
 
 /// A workbench over `rows` generated parts, its fit done, the Parts panel in front.

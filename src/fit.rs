@@ -574,12 +574,7 @@ fn candidates(stage: &Stage, needs: &Needs, library: &Library, role: Role) -> Ve
 type Brief = [u64; 3];
 
 fn brief(c: &Candidate) -> Brief {
-    let verdict = match c.verdict {
-        Verdict::Fits => 0,
-        Verdict::Near => 1,
-        Verdict::Unknown => 2,
-        Verdict::Short => 3,
-    };
+    let verdict = u64::from(rank::group(c.verdict));
     [
         (c.part as u64 & u64::from(u32::MAX))
             | (verdict << 32)
@@ -903,12 +898,7 @@ mod tests {
     /// [`rank::rank`], for every sort key, on one to three threads dealt pieces of any size.
     #[test]
     fn large_ranking_equals_the_full_one() {
-        let mut text = Vec::new();
-        crate::synthetic::write_library(&mut text, 6_000, 5).expect("writing into memory");
-        let mut library = Library::new();
-        library
-            .add_bytes("generated.csv", &text)
-            .expect("the generated library reads");
+        let library = crate::synthetic::library(6_000, 5).expect("the generated library reads");
         for stage_text in [
             include_str!("../data/stages/door-strike.toml"),
             include_str!("../data/stages/mains-pump-relay.toml"),

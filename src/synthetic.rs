@@ -62,6 +62,21 @@ const VOLTS: [f64; 12] = [
 ];
 const STATUS: [&str; 6] = ["active", "active", "active", "active", "nrnd", "obsolete"];
 
+/// A library of `rows` synthetic parts read from [`write_library`]'s text, named
+/// `generated.csv`: what benchmarks and tests of large libraries start from.
+///
+/// # Errors
+/// When the library cannot be read (over a row limit, say); the text itself is written into
+/// memory and cannot fail.
+pub fn library(rows: u64, seed: u64) -> Result<crate::library::Library, crate::library::LoadError> {
+    let mut text = Vec::new();
+    // Writing into a Vec cannot fail.
+    write_library(&mut text, rows, seed).unwrap_or_default();
+    let mut library = crate::library::Library::new();
+    library.add_bytes("generated.csv", &text)?;
+    Ok(library)
+}
+
 /// Writes `rows` synthetic parts as CSV to `out`, with the header of every known column.
 ///
 /// # Errors

@@ -232,10 +232,7 @@ mod properties {
 /// part that can fill the role is there once.
 #[test]
 fn large_libraries_rank_without_holding_every_check() {
-    let mut text = Vec::new();
-    loadfit::synthetic::write_library(&mut text, 60_000, 3).unwrap();
-    let mut library = Library::new();
-    library.add_bytes("big.csv", &text).unwrap();
+    let library = loadfit::synthetic::library(60_000, 3).unwrap();
     assert!(library.parts.len() > fit::FULL_DETAIL_PARTS);
     let stage = Stage::read(&fixture("resistive-npn.toml")).unwrap();
     let needs = needs::compute(&stage, Some(&library));
@@ -276,10 +273,7 @@ fn large_libraries_rank_without_holding_every_check() {
 /// and only the MOSFETs are held against the gate needs).
 #[test]
 fn large_libraries_list_every_need_their_parts_are_held_against() {
-    let mut text = Vec::new();
-    loadfit::synthetic::write_library(&mut text, 30_000, 11).unwrap();
-    let mut library = Library::new();
-    library.add_bytes("big.csv", &text).unwrap();
+    let library = loadfit::synthetic::library(30_000, 11).unwrap();
     assert!(library.parts.len() > fit::FULL_DETAIL_PARTS);
     let stage = Stage::read(std::path::Path::new(concat!(
         env!("CARGO_MANIFEST_DIR"),

@@ -60,6 +60,49 @@ impl Drop for Session {
     }
 }
 
+/// Starts `sh` in a fresh detached pane `width` columns wide and types `command` into it.
+fn start_in_pane(name: &str, width: &str, command: &str) -> Session {
+    let session = Session(name.to_string());
+    tmux(&[
+        "new-session",
+        "-d",
+        "-s",
+        name,
+        "-x",
+        width,
+        "-y",
+        "32",
+        "sh",
+    ]);
+    tmux(&["send-keys", "-t", name, command, "Enter"]);
+    session
+}
+
+/// The process id of the workbench running under the pane's shell.
+fn workbench_pid(name: &str) -> String {
+    let shell = tmux(&["display", "-p", "-t", name, "#{pane_pid}"]);
+    let child = Command::new("pgrep")
+        .args(["-P", shell.trim()])
+        .output()
+        .expect("pgrep runs");
+    let pid = String::from_utf8_lossy(&child.stdout).trim().to_string();
+    assert!(!pid.is_empty(), "the workbench runs under the shell");
+    pid
+}
+
+/// A generated library of `rows` rows written to `name` in `dir`.
+fn generated_library(
+    dir: &std::path::Path,
+    name: &str,
+    rows: u64,
+    seed: u64,
+) -> std::path::PathBuf {
+    let path = dir.join(name);
+    let mut file = std::fs::File::create(&path).unwrap();
+    loadfit::synthetic::write_library(&mut file, rows, seed).unwrap();
+    path
+}
+
 #[test]
 fn the_workbench_runs_in_a_terminal_and_restores_it() {
     if !tmux_available() {
@@ -133,36 +176,16 @@ fn ends_with_terminal_restored(label: &str, env: &str, signal: Option<&str>) {
         return;
     }
     let name = format!("loadfit-{label}-{}", std::process::id());
-    let _session = Session(name.clone());
     let bin = env!("CARGO_BIN_EXE_loadfit");
-    tmux(&[
-        "new-session",
-        "-d",
-        "-s",
+    let _session = start_in_pane(
         &name,
-        "-x",
         "120",
-        "-y",
-        "32",
-        "sh",
-    ]);
-    tmux(&[
-        "send-keys",
-        "-t",
-        &name,
         &format!("TERM=xterm-256color {env} {bin} 2>/dev/null; echo after-{label}-$((40+2))"),
-        "Enter",
-    ]);
+    );
     if let Some(signal) = signal {
         let pane = wait_for(&name, "Needs:");
         assert!(pane.contains("[1 Stage]"), "{pane}");
-        let shell = tmux(&["display", "-p", "-t", &name, "#{pane_pid}"]);
-        let child = Command::new("pgrep")
-            .args(["-P", shell.trim()])
-            .output()
-            .expect("pgrep runs");
-        let pid = String::from_utf8_lossy(&child.stdout).trim().to_string();
-        assert!(!pid.is_empty(), "the workbench runs under the shell");
+        let pid = workbench_pid(&name);
         Command::new("kill")
             .args([signal, &pid])
             .status()
@@ -209,30 +232,15 @@ fn a_panic_restores_the_terminal() {
 /// first frame is up.
 fn open_with_parts(label: &str, path: &std::path::Path) -> Session {
     let name = format!("loadfit-{label}-{}", std::process::id());
-    let session = Session(name.clone());
     let bin = env!("CARGO_BIN_EXE_loadfit");
-    tmux(&[
-        "new-session",
-        "-d",
-        "-s",
+    start_in_pane(
         &name,
-        "-x",
         "160",
-        "-y",
-        "32",
-        "sh",
-    ]);
-    tmux(&[
-        "send-keys",
-        "-t",
-        &name,
         &format!(
             "TERM=xterm-256color {bin} --parts {}; echo after-{label}-$((40+2))",
             path.display()
         ),
-        "Enter",
-    ]);
-    session
+    )
 }
 
 /// Quits the workbench and waits until the shell says it has ended, so no run outlives its test.
@@ -258,20 +266,11 @@ fn closing_the_pane_ends_the_workbench() {
         return;
     }
     let dir = tempfile::tempdir().unwrap();
-    let path = dir.path().join("shelf.csv");
-    let mut file = std::fs::File::create(&path).unwrap();
-    loadfit::synthetic::write_library(&mut file, 200, 2).unwrap();
-    drop(file);
+    let path = generated_library(dir.path(), "shelf.csv", 200, 2);
     let session = open_with_parts("closed", &path);
     let pane = wait_for(&session.0, "[1 Stage]");
     assert!(pane.contains("[1 Stage]"), "{pane}");
-    let shell = tmux(&["display", "-p", "-t", &session.0, "#{pane_pid}"]);
-    let child = Command::new("pgrep")
-        .args(["-P", shell.trim()])
-        .output()
-        .expect("pgrep runs");
-    let pid = String::from_utf8_lossy(&child.stdout).trim().to_string();
-    assert!(!pid.is_empty(), "the workbench runs under the shell");
+    let pid = workbench_pid(&session.0);
     // The terminal goes away under the running workbench (SIGHUP, then end-of-file on input).
     drop(session);
     let start = Instant::now();
@@ -292,11 +291,8 @@ fn a_large_library_given_with_parts_replaces_the_demo_once_read() {
         return;
     }
     let dir = tempfile::tempdir().unwrap();
-    let path = dir.path().join("van-stock.csv");
-    let mut file = std::fs::File::create(&path).unwrap();
     // Over the 4 MB at which the workbench reads a library behind the demo.
-    loadfit::synthetic::write_library(&mut file, 40_000, 8).unwrap();
-    drop(file);
+    let path = generated_library(dir.path(), "van-stock.csv", 40_000, 8);
     assert!(std::fs::metadata(&path).unwrap().len() > 4_000_000);
     let session = open_with_parts("load", &path);
     // The end state only: whether the gauge is caught on screen depends on the machine's speed

@@ -162,7 +162,8 @@ pub(crate) fn score_from(part: &Part, quantity: f64, headroom: Option<f64>, pric
     (raw * 10.0).round() / 10.0
 }
 
-fn group(verdict: Verdict) -> u8 {
+/// A verdict's group in the ranking, best first (fits, near, unknown, short), as 0 to 3.
+pub(crate) fn group(verdict: Verdict) -> u8 {
     match verdict {
         Verdict::Fits => 0,
         Verdict::Near => 1,
@@ -395,10 +396,7 @@ mod tests {
     /// with many tied scores.
     #[test]
     fn ranking_by_keys_equals_sorting_by_compare() {
-        let mut text = Vec::new();
-        crate::synthetic::write_library(&mut text, 3000, 7).unwrap();
-        let mut library = Library::new();
-        library.add_bytes("gen.csv", &text).unwrap();
+        let library = crate::synthetic::library(3000, 7).unwrap();
         let stage = crate::stage::Stage::from_toml(
             include_str!("../../data/stages/door-strike.toml"),
             "door-strike.toml",

@@ -467,11 +467,7 @@ mod tests {
     }
 
     fn generated(rows: u64, seed: u64) -> Library {
-        let mut text = Vec::new();
-        crate::synthetic::write_library(&mut text, rows, seed).unwrap_or_default();
-        let mut library = Library::new();
-        let _ = library.add_bytes("generated.csv", &text);
-        library
+        crate::synthetic::library(rows, seed).expect("a generated library reads")
     }
 
     proptest! {

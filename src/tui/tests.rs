@@ -400,10 +400,7 @@ fn a_trace_exports_as_svg_from_its_panel() {
 
 #[test]
 fn a_large_library_is_recomputed_in_the_background() {
-    let mut text = Vec::new();
-    crate::synthetic::write_library(&mut text, 60_000, 5).unwrap();
-    let mut library = Library::new();
-    library.add_bytes("big.csv", &text).unwrap();
+    let library = crate::synthetic::library(60_000, 5).unwrap();
     assert!(library.parts.len() > super::app::BACKGROUND_PARTS);
     let doc = StageDoc::parse(super::DEMO_STAGE, "mains-pump-relay.toml").unwrap();
     let mut app = App::new(library, Vec::new(), doc, None);
@@ -505,10 +502,7 @@ fn the_load_gauge_names_rows_megabytes_and_rate() {
 
 /// A workbench over `rows` generated parts and the door-strike stage, its fit done.
 fn door_strike_app(rows: u64, seed: u64) -> App {
-    let mut text = Vec::new();
-    crate::synthetic::write_library(&mut text, rows, seed).unwrap();
-    let mut library = Library::new();
-    library.add_bytes("big.csv", &text).unwrap();
+    let library = crate::synthetic::library(rows, seed).unwrap();
     let doc = StageDoc::parse(
         include_str!("../../data/stages/door-strike.toml"),
         "door-strike.toml",
