@@ -166,6 +166,26 @@ pub struct Check {
 }
 
 impl Check {
+    /// The check of a part rule (status, stock, RoHS): a verdict and a note, no rating.
+    pub(crate) fn rule(
+        need: &'static str,
+        rating_name: &'static str,
+        verdict: CheckVerdict,
+        note: &'static str,
+    ) -> Check {
+        Check {
+            need,
+            rating_name,
+            rating: None,
+            required: None,
+            dim: Dim::Number,
+            bound: Bound::Value,
+            verdict,
+            headroom: None,
+            note: Cow::Borrowed(note),
+        }
+    }
+
     /// The shortfall of a short check as a fraction (0.05 is 5 % short).
     #[must_use]
     pub fn shortfall(&self) -> Option<f64> {
@@ -257,6 +277,7 @@ impl Tally {
     }
 
     /// Counts one more check given by its parts (the checks of a ranking are not written).
+    #[inline]
     pub(crate) fn count(
         &mut self,
         need: &str,
@@ -458,11 +479,21 @@ pub fn evaluate_part(
     role: Role,
     index: usize,
 ) -> Option<Candidate> {
+    evaluate_part_on(&checks::Plan::new(stage, needs), library, role, index)
+}
+
+/// [`evaluate_part`] with the plan of the stage and needs made already.
+fn evaluate_part_on(
+    plan: &checks::Plan,
+    library: &Library,
+    role: Role,
+    index: usize,
+) -> Option<Candidate> {
     let part: &Part = library.parts.get(index)?;
-    if !kind_fits_role(stage, role, part.kind) {
+    if !kind_fits_role(plan.stage(), role, part.kind) {
         return None;
     }
-    let checks = checks::for_part(stage, needs, role, part);
+    let checks = checks::written(plan, role, part);
     let mut candidate = judge(part, index, &Tally::of(&checks));
     candidate.checks = checks.into();
     Some(candidate)
@@ -561,9 +592,10 @@ fn role_parts<'a>(stage: &Stage, library: &'a Library, role: Role) -> Cow<'a, [u
 
 /// Every candidate of `role` with its checks, in library order (a small library).
 fn candidates(stage: &Stage, needs: &Needs, library: &Library, role: Role) -> Vec<Candidate> {
+    let plan = checks::Plan::new(stage, needs);
     role_parts(stage, library, role)
         .iter()
-        .filter_map(|&i| evaluate_part(stage, needs, library, role, i as usize))
+        .filter_map(|&i| evaluate_part_on(&plan, library, role, i as usize))
         .collect()
 }
 
@@ -654,7 +686,7 @@ fn ranked_candidates_on(
     let n = indices.len();
     let mut briefs: Vec<Brief> = vec![[0; 3]; n];
     let mut keys: Vec<u128> = vec![0; n];
-    let lookup = checks::NeedLookup::new(needs);
+    let plan = checks::Plan::new(stage, needs);
     let order = library.number_order();
     let scan = |first: usize,
                 indices: &[u32],
@@ -689,7 +721,7 @@ fn ranked_candidates_on(
                     *key_slot = MISSING;
                     continue;
                 };
-                let tally = checks::tally(stage, &lookup, role, part);
+                let tally = checks::tally(&plan, role, part);
                 let c = judge_remembering(part, i as usize, &tally, prices);
                 *brief_slot = brief(&c);
                 *key_slot = rank::sort_key(

@@ -32,96 +32,94 @@ use std::fmt;
 
 /// The need ids of issue 3, a binding contract: outputs and the fit code refer to needs by these.
 pub mod ids {
-    // Statics, not constants: each id's text is then one piece of memory, so a look-up can
-    // find a need by its pointer before comparing text (see `fit::checks::NeedLookup`).
     /// Supply at its upper tolerance, Vs_max (a computed figure the other needs use).
-    pub static SUPPLY_MAX: &str = "supply.max";
+    pub const SUPPLY_MAX: &str = "supply.max";
     /// Supply at its lower tolerance, Vs_min.
-    pub static SUPPLY_MIN: &str = "supply.min";
+    pub const SUPPLY_MIN: &str = "supply.min";
     /// Current through the load with the switch on.
-    pub static LOAD_CURRENT: &str = "load.current";
+    pub const LOAD_CURRENT: &str = "load.current";
     /// LED series resistor, the E-series value at or above the exact one.
-    pub static LOAD_SERIES_RESISTOR: &str = "load.series_resistor";
+    pub const LOAD_SERIES_RESISTOR: &str = "load.series_resistor";
     /// Power rating the LED series resistor needs.
-    pub static LOAD_SERIES_RESISTOR_POWER: &str = "load.series_resistor_power";
+    pub const LOAD_SERIES_RESISTOR_POWER: &str = "load.series_resistor_power";
     /// RC time constant of a capacitive load.
-    pub static LOAD_TAU: &str = "load.tau";
+    pub const LOAD_TAU: &str = "load.tau";
     /// 10-90 % rise time of a capacitive load.
-    pub static LOAD_RISE_TIME: &str = "load.rise_time";
+    pub const LOAD_RISE_TIME: &str = "load.rise_time";
     /// Time to settle within 0.7 % (5 τ) of a capacitive load.
-    pub static LOAD_SETTLE_TIME: &str = "load.settle_time";
+    pub const LOAD_SETTLE_TIME: &str = "load.settle_time";
     /// Highest voltage across the switch when it is off.
-    pub static SWITCH_OFF_PEAK: &str = "switch.off_peak";
+    pub const SWITCH_OFF_PEAK: &str = "switch.off_peak";
     /// Breakdown voltage (VCEO, VDS) the switch needs.
-    pub static SWITCH_VOLTAGE: &str = "switch.voltage";
+    pub const SWITCH_VOLTAGE: &str = "switch.voltage";
     /// Continuous current (IC, ID) the switch needs.
-    pub static SWITCH_CURRENT: &str = "switch.current";
+    pub const SWITCH_CURRENT: &str = "switch.current";
     /// Base current of a BJT switch.
-    pub static SWITCH_BASE_CURRENT: &str = "switch.base_current";
+    pub const SWITCH_BASE_CURRENT: &str = "switch.base_current";
     /// Largest base resistor that still gives the base current.
-    pub static SWITCH_BASE_RESISTOR_MAX: &str = "switch.base_resistor_max";
+    pub const SWITCH_BASE_RESISTOR_MAX: &str = "switch.base_resistor_max";
     /// The base resistor picked from the E-series.
-    pub static SWITCH_BASE_RESISTOR: &str = "switch.base_resistor";
+    pub const SWITCH_BASE_RESISTOR: &str = "switch.base_resistor";
     /// Minimum hFE the BJT needs to saturate with the picked base resistor.
-    pub static SWITCH_GAIN: &str = "switch.gain";
+    pub const SWITCH_GAIN: &str = "switch.gain";
     /// Dissipation of a saturated BJT switch.
-    pub static SWITCH_DISSIPATION: &str = "switch.dissipation";
+    pub const SWITCH_DISSIPATION: &str = "switch.dissipation";
     /// PD rating the BJT switch needs.
-    pub static SWITCH_POWER: &str = "switch.power";
+    pub const SWITCH_POWER: &str = "switch.power";
     /// Gate drive of a MOSFET switch: RDS(on) must be specified at a VGS no higher than this.
-    pub static SWITCH_GATE_DRIVE: &str = "switch.gate_drive";
+    pub const SWITCH_GATE_DRIVE: &str = "switch.gate_drive";
     /// Highest VGS(th)max that leaves the channel well enhanced at the gate drive.
-    pub static SWITCH_GATE_THRESHOLD: &str = "switch.gate_threshold";
+    pub const SWITCH_GATE_THRESHOLD: &str = "switch.gate_threshold";
     /// VGS max rating the MOSFET needs to stand the gate drive.
-    pub static SWITCH_GATE_VOLTAGE: &str = "switch.gate_voltage";
+    pub const SWITCH_GATE_VOLTAGE: &str = "switch.gate_voltage";
     /// VRRM the clamp diode needs.
-    pub static CLAMP_VOLTAGE: &str = "clamp.voltage";
+    pub const CLAMP_VOLTAGE: &str = "clamp.voltage";
     /// Forward current rating the clamp diode needs.
-    pub static CLAMP_CURRENT: &str = "clamp.current";
+    pub const CLAMP_CURRENT: &str = "clamp.current";
     /// Zener voltage of a diode-plus-zener clamp.
-    pub static ZENER_VOLTAGE: &str = "zener.voltage";
+    pub const ZENER_VOLTAGE: &str = "zener.voltage";
     /// Energy the zener absorbs at each switch-off.
-    pub static ZENER_ENERGY: &str = "zener.energy";
+    pub const ZENER_ENERGY: &str = "zener.energy";
     /// L/R time constant of the coil.
-    pub static COIL_TAU: &str = "coil.tau";
+    pub const COIL_TAU: &str = "coil.tau";
     /// Energy held in the coil, ½ L IL².
-    pub static COIL_ENERGY: &str = "coil.energy";
+    pub const COIL_ENERGY: &str = "coil.energy";
     /// Time for the coil current to fall to the release current through the clamp.
-    pub static COIL_RELEASE_TIME: &str = "coil.release_time";
+    pub const COIL_RELEASE_TIME: &str = "coil.release_time";
     /// Coil current of a relay load.
-    pub static RELAY_COIL_CURRENT: &str = "relay.coil_current";
+    pub const RELAY_COIL_CURRENT: &str = "relay.coil_current";
     /// Highest must-operate voltage that still pulls the relay in at Vs_min.
-    pub static RELAY_OPERATE_VOLTAGE: &str = "relay.operate_voltage";
+    pub const RELAY_OPERATE_VOLTAGE: &str = "relay.operate_voltage";
     /// Coil voltage the relay must stand continuously at Vs_max.
-    pub static RELAY_COIL_VOLTAGE_MAX: &str = "relay.coil_voltage_max";
+    pub const RELAY_COIL_VOLTAGE_MAX: &str = "relay.coil_voltage_max";
     /// Contact voltage rating the relay needs.
-    pub static RELAY_CONTACT_VOLTAGE: &str = "relay.contact_voltage";
+    pub const RELAY_CONTACT_VOLTAGE: &str = "relay.contact_voltage";
     /// Contact current rating the relay needs.
-    pub static RELAY_CONTACT_CURRENT: &str = "relay.contact_current";
+    pub const RELAY_CONTACT_CURRENT: &str = "relay.contact_current";
     /// Inrush current the contacts must make.
-    pub static RELAY_INRUSH: &str = "relay.inrush";
+    pub const RELAY_INRUSH: &str = "relay.inrush";
     /// Coil-to-contact rated impulse voltage (IEC 60664-1).
-    pub static RELAY_IMPULSE: &str = "relay.impulse";
+    pub const RELAY_IMPULSE: &str = "relay.impulse";
     /// Coil-to-contact dielectric strength, V rms.
-    pub static RELAY_DIELECTRIC: &str = "relay.dielectric";
+    pub const RELAY_DIELECTRIC: &str = "relay.dielectric";
     /// Photocell resistance at the switching light level.
-    pub static SENSOR_RESISTANCE_AT_ON: &str = "sensor.resistance_at_on";
+    pub const SENSOR_RESISTANCE_AT_ON: &str = "sensor.resistance_at_on";
     /// Fixed divider resistor that puts the node at the threshold at on_lux.
-    pub static SENSOR_FIXED_RESISTOR_EXACT: &str = "sensor.fixed_resistor_exact";
+    pub const SENSOR_FIXED_RESISTOR_EXACT: &str = "sensor.fixed_resistor_exact";
     /// The fixed divider resistor picked from the E-series.
-    pub static SENSOR_FIXED_RESISTOR: &str = "sensor.fixed_resistor";
+    pub const SENSOR_FIXED_RESISTOR: &str = "sensor.fixed_resistor";
     /// Light level at which the picked resistor switches.
-    pub static SENSOR_ON_LUX: &str = "sensor.on_lux";
+    pub const SENSOR_ON_LUX: &str = "sensor.on_lux";
     /// Switching light level with R10 at the low end of its tolerance.
-    pub static SENSOR_ON_LUX_LOW: &str = "sensor.on_lux_low";
+    pub const SENSOR_ON_LUX_LOW: &str = "sensor.on_lux_low";
     /// Switching light level with R10 at the high end of its tolerance.
-    pub static SENSOR_ON_LUX_HIGH: &str = "sensor.on_lux_high";
+    pub const SENSOR_ON_LUX_HIGH: &str = "sensor.on_lux_high";
     /// Voltage rating the photocell needs.
-    pub static SENSOR_VOLTAGE: &str = "sensor.voltage";
+    pub const SENSOR_VOLTAGE: &str = "sensor.voltage";
     /// Dissipation rating the photocell needs.
-    pub static SENSOR_POWER: &str = "sensor.power";
+    pub const SENSOR_POWER: &str = "sensor.power";
     /// Current the divider can give the switch one decade of light past the switching level.
-    pub static SENSOR_DRIVE_CURRENT: &str = "sensor.drive_current";
+    pub const SENSOR_DRIVE_CURRENT: &str = "sensor.drive_current";
 }
 
 /// Sources named beside the rules, so the same rule always cites the same words.

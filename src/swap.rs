@@ -535,17 +535,7 @@ fn relay_checks(orig: &Part, part: &Part) -> Vec<Check> {
 /// answer for a part that failed or went scarce. Stock not given is not a check (a library
 /// without a stock column still gets answers); with a stage, fit's part rules apply instead.
 fn part_rules(part: &Part) -> Vec<Check> {
-    let rule = |need: &'static str, name: &'static str, verdict, note: &'static str| Check {
-        need,
-        rating_name: name,
-        rating: None,
-        required: None,
-        dim: Dim::Number,
-        bound: Bound::Value,
-        verdict,
-        headroom: None,
-        note: Cow::Borrowed(note),
-    };
+    let rule = Check::rule;
     let mut checks = vec![match part.status {
         Status::Obsolete => rule(
             ids_part::STATUS,

@@ -3,7 +3,7 @@
 
 use super::{Check, CheckVerdict, Role, Tally};
 use crate::library::{Kind, Part, Status};
-use crate::needs::{Bound, Need, Needs, ids};
+use crate::needs::{Bound, Needs, ids};
 use crate::needs::{photocell, thermal, worst};
 use crate::stage::Stage;
 use crate::units::{Amps, Celsius, Ohms, Watts};
@@ -118,6 +118,19 @@ pub(crate) fn within(
     tolerance: f64,
     dim: Dim,
 ) -> Check {
+    within_noting::<true>(need, rating_name, value, target, tolerance, dim)
+}
+
+/// [`within`], the deviation written in the note only when `NOTE` (a ranking counts the
+/// check without reading it).
+fn within_noting<const NOTE: bool>(
+    need: &'static str,
+    rating_name: &'static str,
+    value: Option<f64>,
+    target: Option<f64>,
+    tolerance: f64,
+    dim: Dim,
+) -> Check {
     let mut check = compare(need, rating_name, value, target, dim, Bound::Value);
     if let (Some(value), Some(target)) = (value, target)
         && target != 0.0
@@ -130,11 +143,13 @@ pub(crate) fn within(
         } else {
             CheckVerdict::Short
         };
-        check.note = Cow::Owned(format!(
-            "{} from the target (within ±{:.0} % fits)",
-            signed_percent((value - target) / target),
-            tolerance * 100.0
-        ));
+        if NOTE {
+            check.note = Cow::Owned(format!(
+                "{} from the target (within ±{:.0} % fits)",
+                signed_percent((value - target) / target),
+                tolerance * 100.0
+            ));
+        }
     }
     check
 }
@@ -143,107 +158,159 @@ fn signed_percent(fraction: f64) -> String {
     format!("{:+.1} %", fraction * 100.0)
 }
 
-/// The needs as the checks look them up: a small table keyed by the address of each id's
-/// text (the checks name needs by the statics of [`ids`], one piece of memory each), the
-/// values beside it, and whether the needs are worst-case, found once. A million-part ranking
-/// looks needs up some ten times a part; built once a role, this finds one in a probe or two
-/// where searching the needs by text took twenty nanoseconds.
-pub struct NeedLookup<'a> {
-    needs: &'a Needs,
-    ids: Vec<&'static str>,
-    values: Vec<Option<f64>>,
-    /// Open addressing by text address: (address, position + 1), 0 for an empty slot.
-    slots: Vec<(usize, u32)>,
+/// A need as the checks read it: whether the stage has it, and its value when it is a number.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+struct Asked {
+    held: bool,
+    value: Option<f64>,
+}
+
+impl Asked {
+    fn of(needs: &Needs, id: &str) -> Asked {
+        let need = needs.get(id);
+        Asked {
+            held: need.is_some(),
+            value: need.and_then(|n| n.value),
+        }
+    }
+}
+
+/// Everything the checks read besides the part: the values of the needs and the figures of
+/// the stage that hold for every part alike (the load current, the ambient of the thermal
+/// checks, a BJT's base drive, a relay coil's cold factor, the stock quantity), found once for
+/// an evaluation. A million-part ranking would otherwise look each of them up again for every
+/// part; written out or only counted, every check reads them from here.
+pub struct Plan<'a> {
+    stage: &'a Stage,
     worst_case: bool,
+    load_current: Option<f64>,
+    /// The ambient of the thermal checks: the hotter of `rules.ambient` and `temperature_max`
+    /// when the needs are worst-case.
+    ambient: f64,
+    switch_voltage: Option<f64>,
+    switch_current: Option<f64>,
+    switch_gain: Asked,
+    /// A BJT's base current and VBE in its dissipation P = VCE(sat)·IL + VBE·IB, when the
+    /// load current is known.
+    base_drive: Option<(f64, f64)>,
+    gate_drive: Asked,
+    gate_threshold: Asked,
+    gate_voltage: Asked,
+    clamp_voltage: Option<f64>,
+    clamp_current: Option<f64>,
+    zener_voltage: Option<f64>,
+    /// R(coil at its coldest) / R20 (1 at nominal).
+    coil_cold: f64,
+    coil_current: Option<f64>,
+    operate_voltage: Option<f64>,
+    coil_voltage_max: Option<f64>,
+    contact_voltage: Asked,
+    contact_current: Asked,
+    inrush: Asked,
+    impulse: Option<f64>,
+    dielectric: Option<f64>,
+    sensor_voltage: Option<f64>,
+    sensor_power: Option<f64>,
+    sensor_fixed_resistor: Option<f64>,
+    /// The quantity the stock is held against (at least 1).
+    quantity: f64,
 }
 
-impl<'a> NeedLookup<'a> {
-    /// The look-up of these needs.
+impl<'a> Plan<'a> {
+    /// The plan of the checks of `stage` against `needs`.
     #[must_use]
-    pub fn new(needs: &'a Needs) -> NeedLookup<'a> {
-        let ids: Vec<&'static str> = needs.needs.iter().map(|n| n.id).collect();
-        let mut slots = vec![(0, 0); (ids.len() * 2).next_power_of_two().max(16)];
-        for (i, id) in ids.iter().enumerate() {
-            let address = id.as_ptr() as usize;
-            let mut s = Self::slot(address, slots.len());
-            // The first need of an id is the one found, as `Needs::get` finds it.
-            while slots[s].1 != 0 && slots[s].0 != address {
-                s = (s + 1) & (slots.len() - 1);
+    pub fn new(stage: &'a Stage, needs: &Needs) -> Plan<'a> {
+        let value = |id| needs.value(id);
+        let worst_case = needs.is_worst_case();
+        let load_current = value(ids::LOAD_CURRENT);
+        let base_drive = load_current.map(|il| {
+            if worst_case {
+                // The same bound as the switch.dissipation need: the most base current, the
+                // highest VBE.
+                let (ib, vbe) = worst::base_dissipation_drive(
+                    stage,
+                    value(ids::SWITCH_BASE_RESISTOR).map(Ohms),
+                    Amps(il),
+                );
+                (ib.value(), vbe.value())
+            } else {
+                (base_current(stage, needs), stage.assume.vbe_on.value())
             }
-            if slots[s].1 == 0 {
-                // Needs are a few dozen: positions fit in u32.
-                slots[s] = (address, i as u32 + 1);
-            }
+        });
+        Plan {
+            stage,
+            worst_case,
+            load_current,
+            ambient: worst::thermal_ambient(stage, worst_case).value(),
+            switch_voltage: value(ids::SWITCH_VOLTAGE),
+            switch_current: value(ids::SWITCH_CURRENT),
+            switch_gain: Asked::of(needs, ids::SWITCH_GAIN),
+            base_drive,
+            gate_drive: Asked::of(needs, ids::SWITCH_GATE_DRIVE),
+            gate_threshold: Asked::of(needs, ids::SWITCH_GATE_THRESHOLD),
+            gate_voltage: Asked::of(needs, ids::SWITCH_GATE_VOLTAGE),
+            clamp_voltage: value(ids::CLAMP_VOLTAGE),
+            clamp_current: value(ids::CLAMP_CURRENT),
+            zener_voltage: value(ids::ZENER_VOLTAGE),
+            coil_cold: worst::coil_resistance_factor(stage, worst_case),
+            coil_current: value(ids::RELAY_COIL_CURRENT),
+            operate_voltage: value(ids::RELAY_OPERATE_VOLTAGE),
+            coil_voltage_max: value(ids::RELAY_COIL_VOLTAGE_MAX),
+            contact_voltage: Asked::of(needs, ids::RELAY_CONTACT_VOLTAGE),
+            contact_current: Asked::of(needs, ids::RELAY_CONTACT_CURRENT),
+            inrush: Asked::of(needs, ids::RELAY_INRUSH),
+            impulse: value(ids::RELAY_IMPULSE),
+            dielectric: value(ids::RELAY_DIELECTRIC),
+            sensor_voltage: value(ids::SENSOR_VOLTAGE),
+            sensor_power: value(ids::SENSOR_POWER),
+            sensor_fixed_resistor: value(ids::SENSOR_FIXED_RESISTOR),
+            quantity: f64::from(stage.rules.quantity.max(1)),
         }
-        NeedLookup {
-            needs,
-            values: needs.needs.iter().map(|n| n.value).collect(),
-            ids,
-            slots,
-            worst_case: needs.is_worst_case(),
-        }
-    }
-
-    #[inline]
-    fn slot(address: usize, len: usize) -> usize {
-        // Texts are at least byte-aligned and a few bytes apart: mix the low bits.
-        ((address >> 2) ^ (address >> 9)) & (len - 1)
-    }
-
-    #[inline]
-    fn position(&self, id: &str) -> Option<usize> {
-        let address = id.as_ptr() as usize;
-        let mut s = Self::slot(address, self.slots.len());
-        while let Some(&(at, held)) = self.slots.get(s)
-            && held != 0
-        {
-            let i = held as usize - 1;
-            if at == address && self.ids.get(i).is_some_and(|known| known.len() == id.len()) {
-                return Some(i);
-            }
-            s = (s + 1) & (self.slots.len() - 1);
-        }
-        // The text test decides where an id was built some other way (or is not a need).
-        self.ids.iter().position(|&known| known == id)
-    }
-
-    /// The need with this id (as [`Needs::get`]).
-    #[must_use]
-    #[inline]
-    pub fn get(&self, id: &str) -> Option<&'a Need> {
-        self.position(id).and_then(|i| self.needs.needs.get(i))
-    }
-
-    /// The value of the need with this id (as [`Needs::value`]).
-    #[must_use]
-    #[inline]
-    pub fn value(&self, id: &str) -> Option<f64> {
-        self.position(id)
-            .and_then(|i| self.values.get(i).copied().flatten())
-    }
-
-    /// Whether the needs are taken at their worst corners (as [`Needs::is_worst_case`]).
-    #[must_use]
-    pub fn is_worst_case(&self) -> bool {
-        self.worst_case
     }
 }
 
-/// Where the checks of one part go as they are made: kept with their notes, or only counted
-/// in a [`Tally`] (notes cost formatting, and a million-part ranking needs only verdicts,
-/// headrooms and the stock's quantity).
-pub(crate) struct Out {
+impl Plan<'_> {
+    /// The stage the plan is of.
+    #[must_use]
+    pub fn stage(&self) -> &Stage {
+        self.stage
+    }
+}
+
+/// Where the checks of one part go as they are made: kept with their notes (`DETAIL`), or
+/// only counted in a [`Tally`] (notes cost formatting, and a million-part ranking needs only
+/// verdicts, headrooms and the stock's quantity). The choice is made when compiling, so the
+/// counting code has no trace of the notes.
+pub(crate) struct Out<const DETAIL: bool> {
     checks: Vec<Check>,
     tally: Tally,
-    detail: bool,
 }
 
-impl Out {
+impl<const DETAIL: bool> Out<DETAIL> {
+    /// A check of a rating (not a part rule).
+    #[inline]
     fn push(&mut self, check: Check) {
-        if self.detail {
+        if DETAIL {
             self.checks.push(check);
         } else {
-            self.tally.add(&check);
+            self.tally.count_rating(check.verdict, check.headroom);
+        }
+    }
+
+    /// A part rule's verdict, with its note when detail is asked for.
+    #[inline]
+    fn rule(
+        &mut self,
+        need: &'static str,
+        rating_name: &'static str,
+        verdict: CheckVerdict,
+        note: &'static str,
+    ) {
+        if DETAIL {
+            self.checks
+                .push(Check::rule(need, rating_name, verdict, note));
+        } else {
+            self.tally.count(need, verdict, None, None);
         }
     }
 
@@ -251,43 +318,45 @@ impl Out {
         self.checks.last_mut()
     }
 
-    /// Holds `rating` against the need `id` as a lower bound.
+    /// Holds `rating` against `required` as a lower bound.
+    #[inline]
     fn min(
         &mut self,
-        needs: &NeedLookup,
         id: &'static str,
         name: &'static str,
         rating: Option<f64>,
+        required: Option<f64>,
         dim: Dim,
     ) {
-        self.bound(needs, id, name, rating, dim, Bound::Min);
+        self.bound(id, name, rating, required, dim, Bound::Min);
     }
 
-    /// Holds `rating` against the need `id` as an upper bound.
+    /// Holds `rating` against `required` as an upper bound.
+    #[inline]
     fn max(
         &mut self,
-        needs: &NeedLookup,
         id: &'static str,
         name: &'static str,
         rating: Option<f64>,
+        required: Option<f64>,
         dim: Dim,
     ) {
-        self.bound(needs, id, name, rating, dim, Bound::Max);
+        self.bound(id, name, rating, required, dim, Bound::Max);
     }
 
-    /// Holds `rating` against the need `id`; while ranking only the verdict and headroom are
-    /// counted (no check is written).
+    /// Holds `rating` against the need `id`, which asks `required`; while ranking only the
+    /// verdict and headroom are counted (no check is written).
+    #[inline]
     fn bound(
         &mut self,
-        needs: &NeedLookup,
         id: &'static str,
         name: &'static str,
         rating: Option<f64>,
+        required: Option<f64>,
         dim: Dim,
         bound: Bound,
     ) {
-        let required = needs.value(id);
-        if self.detail {
+        if DETAIL {
             self.checks
                 .push(compare(id, name, rating, required, dim, bound));
         } else {
@@ -297,8 +366,9 @@ impl Out {
     }
 
     /// The check with a note added, the note written only when detail is asked for.
+    #[inline]
     fn note(&self, check: Check, note: impl FnOnce() -> String) -> Check {
-        if self.detail {
+        if DETAIL {
             with_note(check, note())
         } else {
             check
@@ -318,38 +388,43 @@ fn with_note(mut check: Check, note: String) -> Check {
 /// Every check of `part` for `role`, in need order, then the part rules.
 #[must_use]
 pub fn for_part(stage: &Stage, needs: &Needs, role: Role, part: &Part) -> Vec<Check> {
-    let mut out = Out {
+    written(&Plan::new(stage, needs), role, part)
+}
+
+/// [`for_part`] with the plan of the stage and needs made already.
+#[must_use]
+pub fn written(plan: &Plan, role: Role, part: &Part) -> Vec<Check> {
+    let mut out = Out::<true> {
         checks: Vec::with_capacity(8),
         tally: Tally::default(),
-        detail: true,
     };
-    fill(stage, &NeedLookup::new(needs), role, part, &mut out);
+    fill(plan, role, part, &mut out);
     out.checks
 }
 
 /// The tally of [`for_part`]'s checks without writing them: the same verdict, headroom and
 /// quantity, for ranking large libraries (a part's checks are written again when it is shown).
 #[must_use]
-pub fn tally(stage: &Stage, needs: &NeedLookup, role: Role, part: &Part) -> Tally {
-    let mut out = Out {
+#[inline]
+pub fn tally(plan: &Plan, role: Role, part: &Part) -> Tally {
+    let mut out = Out::<false> {
         checks: Vec::new(),
         tally: Tally::default(),
-        detail: false,
     };
-    fill(stage, needs, role, part, &mut out);
+    fill(plan, role, part, &mut out);
     out.tally
 }
 
-fn fill(stage: &Stage, needs: &NeedLookup, role: Role, part: &Part, out: &mut Out) {
-    let checks = out;
+#[inline]
+fn fill<const DETAIL: bool>(plan: &Plan, role: Role, part: &Part, out: &mut Out<DETAIL>) {
     match role {
-        Role::Switch => switch(stage, needs, part, checks),
-        Role::Clamp => clamp(needs, part, checks),
-        Role::Zener => zener(needs, part, checks),
-        Role::Relay => relay(stage, needs, part, checks),
-        Role::Sensor => sensor(stage, needs, part, checks),
+        Role::Switch => switch(plan, part, out),
+        Role::Clamp => clamp(plan, part, out),
+        Role::Zener => zener(plan, part, out),
+        Role::Relay => relay(plan, part, out),
+        Role::Sensor => sensor(plan, part, out),
     }
-    part_rules(stage, part, checks);
+    part_rules(plan, part, out);
 }
 
 /// PD derated at the ambient with the part's TJmax (150 °C when not given): the derating of
@@ -363,20 +438,19 @@ fn derated(pd: f64, tj_max: Option<f64>, ambient: f64) -> f64 {
     .value()
 }
 
-/// The thermal checks of a switch dissipating `dissipation` at `ambient` (°C): the hotter of
-/// `rules.ambient` and `temperature_max` when the needs are worst-case.
+/// The thermal checks of a switch dissipating `dissipation` at the plan's ambient.
 #[allow(clippy::too_many_arguments)]
-fn power_checks(
-    stage: &Stage,
-    ambient: f64,
+fn power_checks<const DETAIL: bool>(
+    plan: &Plan,
     dissipation: Option<f64>,
     pd: Option<f64>,
     tj_max: Option<f64>,
     rth_ja: Option<f64>,
     how: &dyn Fn() -> String,
-    checks: &mut Out,
+    checks: &mut Out<DETAIL>,
 ) {
-    let required = dissipation.map(|p| p / stage.rules.power_derating);
+    let ambient = plan.ambient;
+    let required = dissipation.map(|p| p / plan.stage.rules.power_derating);
     let derated = pd.map(|pd| derated(pd, tj_max, ambient));
     let mut check = at_least(
         ids::SWITCH_POWER,
@@ -431,25 +505,30 @@ fn power_checks(
     }
 }
 
-fn switch(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
-    let il = needs.value(ids::LOAD_CURRENT);
-    let worst_case = needs.is_worst_case();
-    let ambient = worst::thermal_ambient(stage, worst_case).value();
+fn switch<const DETAIL: bool>(plan: &Plan, part: &Part, checks: &mut Out<DETAIL>) {
+    let stage = plan.stage;
+    let il = plan.load_current;
     if let Some(b) = part.bjt() {
-        checks.min(needs, ids::SWITCH_VOLTAGE, "vceo", b.vceo.get(), Dim::Volt);
         checks.min(
-            needs,
+            ids::SWITCH_VOLTAGE,
+            "vceo",
+            b.vceo.get(),
+            plan.switch_voltage,
+            Dim::Volt,
+        );
+        checks.min(
             ids::SWITCH_CURRENT,
             "ic_max",
             b.ic_max.get(),
+            plan.switch_current,
             Dim::Amp,
         );
-        if needs.get(ids::SWITCH_GAIN).is_some() {
+        if plan.switch_gain.held {
             let mut gain = at_least(
                 ids::SWITCH_GAIN,
                 "hfe_min",
                 b.hfe_min.get(),
-                needs.value(ids::SWITCH_GAIN),
+                plan.switch_gain.value,
                 Dim::Number,
             );
             if let (Some(at), Some(il)) = (b.hfe_at_ic.get(), il)
@@ -464,20 +543,8 @@ fn switch(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
             }
             checks.push(gain);
         }
-        if let Some(il) = il {
+        if let (Some(il), Some((base, vbe))) = (il, plan.base_drive) {
             let vce_sat = b.vce_sat.get().unwrap_or(stage.assume.vce_sat.value());
-            let (base, vbe) = if worst_case {
-                // The same bound as the switch.dissipation need: the most base current, the
-                // highest VBE.
-                let (ib, vbe) = worst::base_dissipation_drive(
-                    stage,
-                    needs.value(ids::SWITCH_BASE_RESISTOR).map(Ohms),
-                    Amps(il),
-                );
-                (ib.value(), vbe.value())
-            } else {
-                (base_current(stage, needs), stage.assume.vbe_on.value())
-            };
             let p = vce_sat * il + vbe * base;
             let how = || {
                 format!(
@@ -489,8 +556,7 @@ fn switch(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
                 )
             };
             power_checks(
-                stage,
-                ambient,
+                plan,
                 Some(p),
                 b.pd.get(),
                 b.tj_max.get(),
@@ -500,20 +566,26 @@ fn switch(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
             );
         }
     } else if let Some(m) = part.mosfet() {
-        checks.min(needs, ids::SWITCH_VOLTAGE, "vds", m.vds.get(), Dim::Volt);
         checks.min(
-            needs,
+            ids::SWITCH_VOLTAGE,
+            "vds",
+            m.vds.get(),
+            plan.switch_voltage,
+            Dim::Volt,
+        );
+        checks.min(
             ids::SWITCH_CURRENT,
             "id_max",
             m.id_max.get(),
+            plan.switch_current,
             Dim::Amp,
         );
-        if needs.get(ids::SWITCH_GATE_DRIVE).is_some() {
+        if plan.gate_drive.held {
             let mut gate = at_most(
                 ids::SWITCH_GATE_DRIVE,
                 "rds_on_vgs",
                 m.rds_on_vgs.get(),
-                needs.value(ids::SWITCH_GATE_DRIVE),
+                plan.gate_drive.value,
                 Dim::Volt,
             );
             if gate.verdict == CheckVerdict::Short {
@@ -523,21 +595,21 @@ fn switch(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
             }
             checks.push(gate);
         }
-        if needs.get(ids::SWITCH_GATE_THRESHOLD).is_some() {
+        if plan.gate_threshold.held {
             checks.max(
-                needs,
                 ids::SWITCH_GATE_THRESHOLD,
                 "vgs_th_max",
                 m.vgs_th_max.get(),
+                plan.gate_threshold.value,
                 Dim::Volt,
             );
         }
-        if needs.get(ids::SWITCH_GATE_VOLTAGE).is_some() {
+        if plan.gate_voltage.held {
             checks.min(
-                needs,
                 ids::SWITCH_GATE_VOLTAGE,
                 "vgs_max",
                 m.vgs_max.get(),
+                plan.gate_voltage.value,
                 Dim::Volt,
             );
         }
@@ -562,8 +634,7 @@ fn switch(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
                 checks.push(check);
             } else {
                 power_checks(
-                    stage,
-                    ambient,
+                    plan,
                     p,
                     m.pd.get(),
                     m.tj_max.get(),
@@ -578,7 +649,7 @@ fn switch(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
 
 /// The base current the picked base resistor gives: (V_high − VBE) / RB, or the base-current
 /// need when no resistor was picked.
-fn base_current(stage: &Stage, needs: &NeedLookup) -> f64 {
+fn base_current(stage: &Stage, needs: &Needs) -> f64 {
     let drive = stage.drive.high.value() - stage.assume.vbe_on.value();
     needs
         .value(ids::SWITCH_BASE_RESISTOR)
@@ -589,25 +660,31 @@ fn base_current(stage: &Stage, needs: &NeedLookup) -> f64 {
         .max(0.0)
 }
 
-fn clamp(needs: &NeedLookup, part: &Part, checks: &mut Out) {
+fn clamp<const DETAIL: bool>(plan: &Plan, part: &Part, checks: &mut Out<DETAIL>) {
     let Some(d) = part.diode() else { return };
-    checks.min(needs, ids::CLAMP_VOLTAGE, "vrrm", d.vrrm.get(), Dim::Volt);
     checks.min(
-        needs,
+        ids::CLAMP_VOLTAGE,
+        "vrrm",
+        d.vrrm.get(),
+        plan.clamp_voltage,
+        Dim::Volt,
+    );
+    checks.min(
         ids::CLAMP_CURRENT,
         "if_avg",
         d.if_avg.get(),
+        plan.clamp_current,
         Dim::Amp,
     );
 }
 
-fn zener(needs: &NeedLookup, part: &Part, checks: &mut Out) {
+fn zener<const DETAIL: bool>(plan: &Plan, part: &Part, checks: &mut Out<DETAIL>) {
     let Some(d) = part.diode() else { return };
-    checks.push(within(
+    checks.push(within_noting::<DETAIL>(
         ids::ZENER_VOLTAGE,
         "vz",
         d.vz.get(),
-        needs.value(ids::ZENER_VOLTAGE),
+        plan.zener_voltage,
         ZENER_TOLERANCE,
         Dim::Volt,
     ));
@@ -620,21 +697,22 @@ pub fn own_coil_current(stage: &Stage, part: &Part) -> Option<f64> {
     Some((stage.supply.max().value() - stage.v_sat().value()) / r)
 }
 
-fn relay(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
+fn relay<const DETAIL: bool>(plan: &Plan, part: &Part, checks: &mut Out<DETAIL>) {
+    let stage = plan.stage;
     let Some(r) = part.relay() else { return };
     // Worst case: the part's own coil taken cold, at the corner of the stage's coil current.
-    let cold = worst::coil_resistance_factor(stage, needs.is_worst_case());
+    let cold = plan.coil_cold;
     let coil = own_coil_current(stage, part).map(|i| i / cold);
     let mut coil_check = at_most(
         ids::RELAY_COIL_CURRENT,
         "coil current",
         coil,
-        needs.value(ids::RELAY_COIL_CURRENT),
+        plan.coil_current,
         Dim::Amp,
     );
     if coil.is_some() {
         coil_check = checks.note(coil_check, || {
-            if needs.is_worst_case() {
+            if plan.worst_case {
                 format!(
                     "(Vs_max − V_sat) / (coil_r × {cold:.4}) = ({} − {}) / ({} cold at temperature_min)",
                     format_eng(stage.supply.max().value(), Dim::Volt),
@@ -655,17 +733,17 @@ fn relay(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
     }
     checks.push(coil_check);
     checks.max(
-        needs,
         ids::RELAY_OPERATE_VOLTAGE,
         "must_operate_v",
         r.must_operate_v.get(),
+        plan.operate_voltage,
         Dim::Volt,
     );
     checks.min(
-        needs,
         ids::RELAY_COIL_VOLTAGE_MAX,
         "coil_v_max",
         r.coil_v_max.get(),
+        plan.coil_voltage_max,
         Dim::Volt,
     );
     let ac = stage.contacts.is_none_or(|c| c.ac);
@@ -684,13 +762,16 @@ fn relay(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
             r.contact_a_dc.get(),
         )
     };
-    if needs.get(ids::RELAY_CONTACT_VOLTAGE).is_some() {
-        checks.min(needs, ids::RELAY_CONTACT_VOLTAGE, v_name, v, Dim::Volt);
+    if plan.contact_voltage.held {
+        let need = plan.contact_voltage.value;
+        checks.min(ids::RELAY_CONTACT_VOLTAGE, v_name, v, need, Dim::Volt);
     }
-    if needs.get(ids::RELAY_CONTACT_CURRENT).is_some() {
-        checks.min(needs, ids::RELAY_CONTACT_CURRENT, a_name, a, Dim::Amp);
+    if plan.contact_current.held {
+        let need = plan.contact_current.value;
+        checks.min(ids::RELAY_CONTACT_CURRENT, a_name, a, need, Dim::Amp);
     }
-    if let Some(inrush) = needs.get(ids::RELAY_INRUSH) {
+    if plan.inrush.held {
+        let inrush = plan.inrush;
         let mut check = at_least(
             ids::RELAY_INRUSH,
             "inrush_a",
@@ -714,42 +795,45 @@ fn relay(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
         }
         checks.push(check);
     }
-    if needs.value(ids::RELAY_IMPULSE).is_some() {
+    if plan.impulse.is_some() {
         checks.min(
-            needs,
             ids::RELAY_IMPULSE,
             "impulse_v",
             r.impulse_v.get(),
+            plan.impulse,
             Dim::Volt,
         );
     }
-    if needs.value(ids::RELAY_DIELECTRIC).is_some() {
+    if plan.dielectric.is_some() {
         checks.min(
-            needs,
             ids::RELAY_DIELECTRIC,
             "dielectric_v",
             r.dielectric_v.get(),
+            plan.dielectric,
             Dim::Volt,
         );
     }
 }
 
-fn sensor(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
+fn sensor<const DETAIL: bool>(plan: &Plan, part: &Part, checks: &mut Out<DETAIL>) {
+    let stage = plan.stage;
     let Some(p) = part.photocell() else { return };
     checks.min(
-        needs,
         ids::SENSOR_VOLTAGE,
         "v_max",
         p.v_max.get(),
+        plan.sensor_voltage,
         Dim::Volt,
     );
-    checks.min(needs, ids::SENSOR_POWER, "p_max", p.p_max.get(), Dim::Watt);
+    checks.min(
+        ids::SENSOR_POWER,
+        "p_max",
+        p.p_max.get(),
+        plan.sensor_power,
+        Dim::Watt,
+    );
     if let Some(sensor) = &stage.sensor {
-        let own = match (
-            needs.value(ids::SENSOR_FIXED_RESISTOR),
-            p.r_10lux.get(),
-            p.gamma.get(),
-        ) {
+        let own = match (plan.sensor_fixed_resistor, p.r_10lux.get(), p.gamma.get()) {
             (Some(fixed), Some(r10), Some(gamma))
                 if fixed > 0.0
                     && r10 > 0.0
@@ -771,7 +855,7 @@ fn sensor(stage: &Stage, needs: &NeedLookup, part: &Part, checks: &mut Out) {
             }
             _ => None,
         };
-        let mut check = within(
+        let mut check = within_noting::<DETAIL>(
             ids::SENSOR_ON_LUX,
             "own on_lux",
             own,
@@ -807,104 +891,54 @@ fn is_cadmium_cell(part: &Part) -> bool {
         && !text.contains("cd-free")
 }
 
-fn part_rules(stage: &Stage, part: &Part, checks: &mut Out) {
-    let rule = |need: &'static str,
-                rating_name: &'static str,
-                verdict: CheckVerdict,
-                note: Cow<'static, str>| Check {
-        need,
-        rating_name,
-        rating: None,
-        required: None,
-        dim: Dim::Number,
-        bound: Bound::Value,
-        verdict,
-        headroom: None,
-        note,
-    };
-    let status = match part.status {
-        Status::Obsolete if !stage.rules.allow_obsolete => rule(
-            ids_part::STATUS,
-            "status",
+fn part_rules<const DETAIL: bool>(plan: &Plan, part: &Part, checks: &mut Out<DETAIL>) {
+    let stage = plan.stage;
+    let (verdict, note) = match part.status {
+        Status::Obsolete if !stage.rules.allow_obsolete => (
             CheckVerdict::Short,
-            Cow::Borrowed("obsolete; set rules.allow_obsolete = true to accept it"),
+            "obsolete; set rules.allow_obsolete = true to accept it",
         ),
-        Status::Obsolete => rule(
-            ids_part::STATUS,
-            "status",
-            CheckVerdict::Pass,
-            Cow::Borrowed("obsolete, allowed by the rules"),
-        ),
-        Status::Nrnd => rule(
-            ids_part::STATUS,
-            "status",
-            CheckVerdict::Pass,
-            Cow::Borrowed("not recommended for new designs"),
-        ),
-        Status::Active => rule(
-            ids_part::STATUS,
-            "status",
-            CheckVerdict::Pass,
-            Cow::Borrowed(""),
-        ),
-        Status::Unknown => rule(
-            ids_part::STATUS,
-            "status",
-            CheckVerdict::Pass,
-            Cow::Borrowed("status not given"),
-        ),
+        Status::Obsolete => (CheckVerdict::Pass, "obsolete, allowed by the rules"),
+        Status::Nrnd => (CheckVerdict::Pass, "not recommended for new designs"),
+        Status::Active => (CheckVerdict::Pass, ""),
+        Status::Unknown => (CheckVerdict::Pass, "status not given"),
     };
-    checks.push(status);
-    let quantity = f64::from(stage.rules.quantity.max(1));
-    let mut stock = at_least(
-        ids_part::STOCK,
-        "stock",
-        part.stock.map(|s| s as f64),
-        Some(quantity),
-        Dim::Number,
-    );
-    if stock.verdict == CheckVerdict::Short {
-        // Written only with the detail: a ranking need not format a sentence for every part
-        // short of stock.
-        stock = checks.note(stock, || {
-            format!("{} in stock, {} needed", part.stock.unwrap_or(0), quantity)
-        });
+    checks.rule(ids_part::STATUS, "status", verdict, note);
+    let quantity = plan.quantity;
+    let stock = part.stock.map(f64::from);
+    if DETAIL {
+        let mut check = at_least(ids_part::STOCK, "stock", stock, Some(quantity), Dim::Number);
+        if check.verdict == CheckVerdict::Short {
+            check = with_note(
+                check,
+                format!("{} in stock, {} needed", part.stock.unwrap_or(0), quantity),
+            );
+        }
+        checks.checks.push(check);
+    } else {
+        // A ranking counts the verdict and keeps the quantity the stock is held against.
+        let (verdict, headroom) = hold(stock, Some(quantity), Bound::Min);
+        checks
+            .tally
+            .count(ids_part::STOCK, verdict, headroom, Some(quantity));
     }
-    checks.push(stock);
+    // A photocell's notes and tags are read only for photocells.
+    let cadmium = part.kind == Kind::Photocell && is_cadmium_cell(part);
     if stage.rules.require_rohs {
-        let check = if is_cadmium_cell(part) {
-            rule(
-                ids_part::ROHS,
-                "rohs",
+        let (verdict, note) = if cadmium {
+            (
                 CheckVerdict::Short,
-                Cow::Borrowed(
-                    "CdS photocell: cadmium above 0.01 % (EU RoHS 2011/65/EU Annex II); the photoresistor exemption expired at the end of 2013",
-                ),
+                "CdS photocell: cadmium above 0.01 % (EU RoHS 2011/65/EU Annex II); the photoresistor exemption expired at the end of 2013",
             )
         } else {
             match part.rohs {
-                Some(true) => rule(
-                    ids_part::ROHS,
-                    "rohs",
-                    CheckVerdict::Pass,
-                    Cow::Borrowed(""),
-                ),
-                Some(false) => rule(
-                    ids_part::ROHS,
-                    "rohs",
-                    CheckVerdict::Short,
-                    Cow::Borrowed("not RoHS compliant"),
-                ),
-                None => rule(
-                    ids_part::ROHS,
-                    "rohs",
-                    CheckVerdict::Unknown,
-                    Cow::Borrowed("RoHS status not given"),
-                ),
+                Some(true) => (CheckVerdict::Pass, ""),
+                Some(false) => (CheckVerdict::Short, "not RoHS compliant"),
+                None => (CheckVerdict::Unknown, "RoHS status not given"),
             }
         };
-        checks.push(check);
-    } else if is_cadmium_cell(part) || (part.kind == Kind::Photocell && part.rohs == Some(false)) {
+        checks.rule(ids_part::ROHS, "rohs", verdict, note);
+    } else if DETAIL && (cadmium || (part.kind == Kind::Photocell && part.rohs == Some(false))) {
         // Not a rule of this stage, but a purchaser must know.
         if let Some(last) = checks.last_mut() {
             let note = "note: a CdS photocell is not RoHS compliant (cadmium, 2011/65/EU Annex II)";
@@ -980,7 +1014,7 @@ mod tests {
                         }
                         let written = for_part(&stage, &needs, role, part);
                         assert_eq!(
-                            tally(&stage, &NeedLookup::new(&needs), role, part),
+                            tally(&Plan::new(&stage, &needs), role, part),
                             Tally::of(&written),
                             "{} as {} in {}",
                             part.number,
@@ -995,30 +1029,53 @@ mod tests {
         assert!(compared > 200, "{compared} parts compared");
     }
 
-    /// The look-up finds what `Needs::get` finds: by the ids' statics, by an equal text built
-    /// elsewhere, and nothing for an id the needs do not have.
+    /// A need the stage has without a value (unbounded) fails every part, written out or
+    /// counted; a need the stage does not have is not checked at all. The plan keeps the two
+    /// apart.
     #[test]
-    fn need_lookup_finds_what_the_needs_hold() {
-        for text in [
+    fn an_unbounded_need_fails_and_an_absent_one_is_not_checked() {
+        let library = crate::library::Library::demo();
+        let stage = Stage::from_toml(
             include_str!("../../data/stages/door-strike.toml"),
-            include_str!("../../data/stages/mains-pump-relay.toml"),
-            include_str!("../../data/stages/cabinet-light-sensor.toml"),
-        ] {
-            let stage = Stage::from_toml(text, "stage.toml").expect("a demo stage parses");
-            let needs = crate::needs::compute(&stage, None);
-            let lookup = NeedLookup::new(&needs);
-            for need in &needs.needs {
-                let built = need.id.to_string();
-                for id in [need.id, built.as_str()] {
-                    assert_eq!(lookup.value(id), needs.value(id), "{id}");
-                    assert!(
-                        std::ptr::eq(lookup.get(id).expect("found"), needs.get(id).expect("held")),
-                        "{id}"
-                    );
-                }
+            "door-strike.toml",
+        )
+        .expect("a demo stage parses");
+        let needs = crate::needs::compute(&stage, Some(&library));
+        let bjt = library
+            .parts
+            .iter()
+            .find(|p| p.kind == Kind::Npn)
+            .expect("the demo has NPNs");
+        let gain = |checks: &[Check]| {
+            checks
+                .iter()
+                .find(|c| c.need == ids::SWITCH_GAIN)
+                .map(|c| c.verdict)
+        };
+        assert_eq!(
+            gain(&for_part(&stage, &needs, Role::Switch, bjt)),
+            Some(CheckVerdict::Pass),
+            "{}",
+            bjt.number
+        );
+        let mut unbounded = needs.clone();
+        for need in &mut unbounded.needs {
+            if need.id == ids::SWITCH_GAIN {
+                need.value = None;
             }
-            assert!(lookup.get("switch.no_such_need").is_none());
-            assert_eq!(lookup.is_worst_case(), needs.is_worst_case());
         }
+        let written = for_part(&stage, &unbounded, Role::Switch, bjt);
+        assert_eq!(gain(&written), Some(CheckVerdict::Short));
+        let counted = tally(&Plan::new(&stage, &unbounded), Role::Switch, bjt);
+        assert_eq!(counted, Tally::of(&written));
+        assert_eq!(counted.verdict(), super::super::Verdict::Short);
+        let mut absent = needs.clone();
+        absent.needs.retain(|n| n.id != ids::SWITCH_GAIN);
+        let written = for_part(&stage, &absent, Role::Switch, bjt);
+        assert_eq!(gain(&written), None);
+        assert_eq!(
+            tally(&Plan::new(&stage, &absent), Role::Switch, bjt),
+            Tally::of(&written)
+        );
     }
 }
