@@ -171,7 +171,7 @@ impl Check {
         need: &'static str,
         rating_name: &'static str,
         verdict: CheckVerdict,
-        note: &'static str,
+        note: impl Into<Cow<'static, str>>,
     ) -> Check {
         Check {
             need,
@@ -182,7 +182,7 @@ impl Check {
             bound: Bound::Value,
             verdict,
             headroom: None,
-            note: Cow::Borrowed(note),
+            note: note.into(),
         }
     }
 

@@ -26,7 +26,7 @@ pub use pick::{find_original, search};
 use crate::fit::checks::ids_part;
 use crate::fit::{self, Check, CheckVerdict, Role, Verdict};
 use crate::library::{Kind, Library, Part, Status};
-use crate::needs::{Bound, Needs};
+use crate::needs::Needs;
 use crate::stage::Stage;
 use crate::units::{Dim, format_eng};
 use pins::PinDiff;
@@ -481,17 +481,7 @@ fn relay_checks(orig: &Part, part: &Part) -> Vec<Check> {
     let (Some(a), Some(b)) = (orig.relay(), part.relay()) else {
         return Vec::new();
     };
-    let rule = |need: &'static str, name: &'static str, verdict, note: String| Check {
-        need,
-        rating_name: name,
-        rating: None,
-        required: None,
-        dim: Dim::Number,
-        bound: Bound::Value,
-        verdict,
-        headroom: None,
-        note: Cow::Owned(note),
-    };
+    let rule = |need, name, verdict, note: String| Check::rule(need, name, verdict, note);
     let mut checks = Vec::new();
     if a.coil_v.get().is_none() || b.coil_v.get().is_none() {
         checks.push(rule(
@@ -535,7 +525,7 @@ fn relay_checks(orig: &Part, part: &Part) -> Vec<Check> {
 /// answer for a part that failed or went scarce. Stock not given is not a check (a library
 /// without a stock column still gets answers); with a stage, fit's part rules apply instead.
 fn part_rules(part: &Part) -> Vec<Check> {
-    let rule = Check::rule;
+    let rule = |need, name, verdict, note: &'static str| Check::rule(need, name, verdict, note);
     let mut checks = vec![match part.status {
         Status::Obsolete => rule(
             ids_part::STATUS,
