@@ -571,39 +571,35 @@ fn judged(index: usize, tally: &Tally, score: f64) -> Candidate {
 /// 200 bytes stay well inside a core's first-level cache.
 const TOUCH_AHEAD: usize = 32;
 
-/// The indices of the parts whose kind can fill `role`, in library order within each kind.
-fn role_parts<'a>(stage: &Stage, library: &'a Library, role: Role) -> Cow<'a, [u32]> {
-    let mut kinds = Kind::ALL
-        .into_iter()
-        .filter(|&kind| kind_fits_role(stage, role, kind));
-    match (kinds.next(), kinds.next()) {
-        (None, _) => Cow::Borrowed(&[]),
-        (Some(only), None) => Cow::Borrowed(library.parts_of_kind(only)),
-        (Some(first), Some(second)) => {
-            let mut all = library.parts_of_kind(first).to_vec();
-            all.extend_from_slice(library.parts_of_kind(second));
-            for kind in kinds {
-                all.extend_from_slice(library.parts_of_kind(kind));
-            }
-            Cow::Owned(all)
+/// The indices of the parts whose kind can fill `role`, in library order within each kind,
+/// written into `into`.
+fn role_parts_into(stage: &Stage, library: &Library, role: Role, into: &mut Vec<u32>) {
+    into.clear();
+    for kind in Kind::ALL {
+        if kind_fits_role(stage, role, kind) {
+            into.extend_from_slice(library.parts_of_kind(kind));
         }
     }
 }
 
 /// Every candidate of `role` with its checks, in library order (a small library).
-fn candidates(stage: &Stage, needs: &Needs, library: &Library, role: Role) -> Vec<Candidate> {
-    let plan = checks::Plan::new(stage, needs);
-    role_parts(stage, library, role)
+fn candidates(plan: &checks::Plan, library: &Library, role: Role) -> Vec<Candidate> {
+    let mut indices = Vec::new();
+    role_parts_into(plan.stage(), library, role, &mut indices);
+    indices
         .iter()
-        .filter_map(|&i| evaluate_part_on(&plan, library, role, i as usize))
+        .filter_map(|&i| evaluate_part_on(plan, library, role, i as usize))
         .collect()
 }
 
 /// A candidate as a large ranking first holds it, beside its sort key: the part's index,
 /// the verdict and whether there is a headroom in one word, then the score and the headroom
-/// as bits. 24 bytes where a [`Candidate`] takes 48, and all zeros, so the allocator hands
-/// the vector out zeroed and each core first touches its own share of it.
+/// as bits. 24 bytes where a [`Candidate`] takes 48.
 type Brief = [u64; 3];
+
+/// The brief of a part the role's list names but the library does not have (it cannot
+/// happen: the kind lists index this library). No part's brief has all its bits set.
+const NO_PART: Brief = [u64::MAX; 3];
 
 fn brief(c: &Candidate) -> Brief {
     let verdict = u64::from(rank::group(c.verdict));
@@ -619,16 +615,74 @@ fn brief(c: &Candidate) -> Brief {
 fn unbrief(b: &Brief, rank: u32) -> Candidate {
     Candidate {
         part: (b[0] & u64::from(u32::MAX)) as usize,
-        verdict: match (b[0] >> 32) & 0xff {
-            0 => Verdict::Fits,
-            1 => Verdict::Near,
-            2 => Verdict::Unknown,
-            _ => Verdict::Short,
-        },
+        verdict: verdict_of_group(b[0] >> 32),
         checks: Checks::default(),
         score: f64::from_bits(b[1]),
         headroom: ((b[0] >> 40) & 1 == 1).then(|| f64::from_bits(b[2])),
         rank,
+    }
+}
+
+fn verdict_of_group(bits: u64) -> Verdict {
+    match bits & 0xff {
+        0 => Verdict::Fits,
+        1 => Verdict::Near,
+        2 => Verdict::Unknown,
+        _ => Verdict::Short,
+    }
+}
+
+/// Memory a large evaluation works in, kept from one evaluation to the next: the lists of
+/// briefs and sort keys, and the candidate lists of fits given back with [`Spare::keep`].
+/// At a million parts an evaluation fills some 60 MB; asking the system for it afresh each
+/// time costs a fault a page, a fifth of the edit. The workbench keeps one across edits; an
+/// evaluation without one ([`evaluate`]) starts from empty memory. What is in it never
+/// changes a result (a test evaluates with a used one and a new one).
+#[derive(Debug, Default)]
+pub struct Spare {
+    parts: Vec<u32>,
+    briefs: Vec<Brief>,
+    keys: Vec<u128>,
+    score_keys: Vec<u64>,
+    merged: Vec<u128>,
+    score_merged: Vec<u64>,
+    /// Fits given back, their lists taken apart by the next evaluation (off the caller's
+    /// thread: a million candidates take a few milliseconds to clear).
+    fits: Vec<Fit>,
+    lists: Vec<Vec<Candidate>>,
+}
+
+impl Spare {
+    /// Fits kept at most: the workbench gives back one an edit.
+    const KEPT_FITS: usize = 2;
+
+    /// Gives back a fit that is done with: its candidate lists' memory serves the next
+    /// evaluation's.
+    pub fn keep(&mut self, fit: Fit) {
+        if self.fits.len() < Self::KEPT_FITS {
+            self.fits.push(fit);
+        }
+    }
+
+    /// An empty list that holds `n` candidates: the smallest kept one that does, or the
+    /// largest kept one grown.
+    fn list(&mut self, n: usize) -> Vec<Candidate> {
+        for fit in self.fits.drain(..) {
+            for role in fit.roles {
+                let mut list = role.candidates;
+                list.clear();
+                self.lists.push(list);
+            }
+        }
+        self.lists.sort_by_key(Vec::capacity);
+        let at = self
+            .lists
+            .iter()
+            .position(|l| l.capacity() >= n)
+            .or_else(|| self.lists.len().checked_sub(1));
+        let mut list = at.map_or_else(Vec::new, |at| self.lists.swap_remove(at));
+        list.reserve(n);
+        list
     }
 }
 
@@ -638,13 +692,14 @@ fn unbrief(b: &Brief, rank: u32) -> Candidate {
 /// candidates are written once, in rank order. The order is [`rank::rank`]'s (a test holds
 /// the two equal for every sort key).
 fn ranked_candidates(
-    stage: &Stage,
-    needs: &Needs,
+    plan: &checks::Plan,
     library: &Library,
     role: Role,
     sort: SortKey,
+    spare: &mut Spare,
 ) -> Vec<Candidate> {
-    let indices = role_parts(stage, library, role);
+    let mut indices = std::mem::take(&mut spare.parts);
+    role_parts_into(plan.stage(), library, role, &mut indices);
     let threads = if indices.len() < SHARE_FROM {
         1
     } else {
@@ -652,7 +707,9 @@ fn ranked_candidates(
             .map_or(1, |t| t.get())
             .min(8)
     };
-    ranked_candidates_on(stage, needs, library, role, &indices, sort, threads, PIECE)
+    let list = ranked_candidates_on(plan, library, role, &indices, sort, threads, PIECE, spare);
+    spare.parts = indices;
+    list
 }
 
 /// Parts of a role dealt to one thread at a time while evaluating a large library.
@@ -660,38 +717,140 @@ const PIECE: usize = 4096;
 
 /// A piece of a role's list: the place of its first part, the parts' indices, and where their
 /// briefs and sort keys go.
-type Piece<'a> = (usize, &'a [u32], &'a mut [Brief], &'a mut [u128]);
+type Piece<'a, K> = (usize, &'a [u32], &'a mut [Brief], &'a mut [K]);
 
 /// Roles with at least this many candidates are evaluated on all cores: below, starting
 /// threads costs more than it saves.
 const SHARE_FROM: usize = 50_000;
 
-/// [`ranked_candidates`] of the parts at `indices` (the role's, from [`role_parts`]) on this
-/// many threads, dealing them pieces of `piece` parts.
+/// A 64-bit score key that does not hold its score ([`rank::score_key`] gives none): the
+/// role is then sorted by the 128-bit keys. No real key has all its bits set.
+const WIDE: u64 = u64::MAX;
+
+/// The 128-bit key of a part the library does not have: sorts after every real one
+/// (positions stay below 2^23, so no real key has all its bits set).
+const MISSING: u128 = u128::MAX;
+
+/// [`ranked_candidates`] of the parts at `indices` (the role's, from [`role_parts_into`]) on
+/// this many threads, dealing them pieces of `piece` parts.
 #[allow(clippy::too_many_arguments)]
 fn ranked_candidates_on(
-    stage: &Stage,
-    needs: &Needs,
+    plan: &checks::Plan,
     library: &Library,
     role: Role,
     indices: &[u32],
     sort: SortKey,
     threads: usize,
     piece: usize,
+    spare: &mut Spare,
 ) -> Vec<Candidate> {
-    let piece = piece.max(1);
-    // The key of a part the list names but the library does not have (it cannot happen: the
-    // kind lists index this library): no real key is all ones (positions stay below 2^23).
-    const MISSING: u128 = u128::MAX;
     let n = indices.len();
-    let mut briefs: Vec<Brief> = vec![[0; 3]; n];
-    let mut keys: Vec<u128> = vec![0; n];
-    let plan = checks::Plan::new(stage, needs);
     let order = library.number_order();
+    let mut briefs = std::mem::take(&mut spare.briefs);
+    // Every brief is written by the evaluation: only new room needs a value.
+    briefs.resize(n, NO_PART);
+    let mut list = spare.list(n);
+    // Ranks stay below `limits::MAX_ROWS`, well inside u32.
+    let rank_of = |r: usize| r as u32 + 1;
+    let wide_key = |c: &Candidate, part: Option<&Part>, at: usize| {
+        rank::sort_key(
+            sort, order, c.part, part, c.verdict, c.score, c.headroom, at,
+        )
+    };
+    let mut wide = sort != SortKey::Score;
+    if sort == SortKey::Score {
+        // Sorting by score, 64 bits a key hold the same order: half the bytes to sort.
+        let mut keys = std::mem::take(&mut spare.score_keys);
+        keys.resize(n, WIDE);
+        let key = |c: &Candidate, part: &Part, at: usize| {
+            rank::score_key(wide_key(c, Some(part), at), c.score).unwrap_or(WIDE)
+        };
+        evaluate_shares(
+            plan,
+            library,
+            role,
+            indices,
+            &mut briefs,
+            &mut keys,
+            WIDE,
+            key,
+            threads,
+            piece,
+        );
+        if keys.contains(&WIDE) {
+            wide = true;
+        } else {
+            rank::sort_keys_with(&mut keys, &mut spare.score_merged, threads);
+            list.extend(
+                keys.iter()
+                    .enumerate()
+                    .map(|(r, &k)| unbrief(&briefs[rank::score_key_position(k)], rank_of(r))),
+            );
+        }
+        spare.score_keys = keys;
+    }
+    if wide {
+        let mut keys = std::mem::take(&mut spare.keys);
+        keys.resize(n, MISSING);
+        if sort == SortKey::Score {
+            // A score beyond the 64-bit key's reach: the wide keys, made from the briefs.
+            for (at, (b, k)) in briefs.iter().zip(keys.iter_mut()).enumerate() {
+                // The score key reads no part.
+                *k = if *b == NO_PART {
+                    MISSING
+                } else {
+                    wide_key(&unbrief(b, 0), None, at)
+                };
+            }
+        } else {
+            let key = |c: &Candidate, part: &Part, at: usize| wide_key(c, Some(part), at);
+            evaluate_shares(
+                plan,
+                library,
+                role,
+                indices,
+                &mut briefs,
+                &mut keys,
+                MISSING,
+                key,
+                threads,
+                piece,
+            );
+        }
+        rank::sort_keys_with(&mut keys, &mut spare.merged, threads);
+        list.extend(
+            keys.iter()
+                .take_while(|&&k| k != MISSING)
+                .enumerate()
+                .map(|(r, &k)| unbrief(&briefs[rank::position(k)], rank_of(r))),
+        );
+        spare.keys = keys;
+    }
+    spare.briefs = briefs;
+    list
+}
+
+/// Evaluates the parts at `indices` into their briefs and sort keys (`key` of the candidate,
+/// the part and its place in the list; `missing` for a part the library does not have), on
+/// `threads` threads dealt pieces of `piece` parts in turn.
+#[allow(clippy::too_many_arguments)]
+fn evaluate_shares<K: Copy + Send + Sync>(
+    plan: &checks::Plan,
+    library: &Library,
+    role: Role,
+    indices: &[u32],
+    briefs: &mut [Brief],
+    keys: &mut [K],
+    missing: K,
+    key: impl Fn(&Candidate, &Part, usize) -> K + Sync,
+    threads: usize,
+    piece: usize,
+) {
+    let piece = piece.max(1);
     let scan = |first: usize,
                 indices: &[u32],
                 briefs: &mut [Brief],
-                keys: &mut [u128],
+                keys: &mut [K],
                 prices: &mut rank::PricePoints| {
         let blocks = indices
             .chunks(TOUCH_AHEAD)
@@ -718,29 +877,21 @@ fn ranked_candidates_on(
                 let at = position;
                 position += 1;
                 let Some(part) = library.parts.get(i as usize) else {
-                    *key_slot = MISSING;
+                    *brief_slot = NO_PART;
+                    *key_slot = missing;
                     continue;
                 };
-                let tally = checks::tally(&plan, role, part);
+                let tally = checks::tally(plan, role, part);
                 let c = judge_remembering(part, i as usize, &tally, prices);
                 *brief_slot = brief(&c);
-                *key_slot = rank::sort_key(
-                    sort,
-                    order,
-                    c.part,
-                    Some(part),
-                    c.verdict,
-                    c.score,
-                    c.headroom,
-                    at,
-                );
+                *key_slot = key(&c, part, at);
             }
         }
     };
     // The role's list is cut in pieces dealt to the threads in turn, so that each thread gets
     // a like mix of kinds (a BJT and a MOSFET do not cost the same to check).
     let finished = threads > 1 && {
-        let mut shares: Vec<Vec<Piece>> = (0..threads).map(|_| Vec::new()).collect();
+        let mut shares: Vec<Vec<Piece<K>>> = (0..threads).map(|_| Vec::new()).collect();
         let pieces = indices
             .chunks(piece)
             .zip(briefs.chunks_mut(piece))
@@ -749,6 +900,7 @@ fn ranked_candidates_on(
         for (p, ((indices, briefs), keys)) in pieces {
             shares[p % threads].push((p * piece, indices, briefs, keys));
         }
+        let scan = &scan;
         std::thread::scope(|scope| {
             let handles: Vec<_> = shares
                 .into_iter()
@@ -769,39 +921,8 @@ fn ranked_candidates_on(
         })
     };
     if !finished {
-        scan(
-            0,
-            indices,
-            &mut briefs,
-            &mut keys,
-            &mut rank::PricePoints::new(),
-        );
+        scan(0, indices, briefs, keys, &mut rank::PricePoints::new());
     }
-    // Ranks stay below `limits::MAX_ROWS`, well inside u32.
-    let rank_of = |r: usize| r as u32 + 1;
-    if sort == SortKey::Score {
-        // Sorting by score, 64 bits a key hold the same order: half the bytes to sort.
-        let short: Option<Vec<u64>> = keys
-            .iter()
-            .zip(&briefs)
-            .filter(|(k, _)| **k != MISSING)
-            .map(|(&k, b)| rank::score_key(k, f64::from_bits(b[1])))
-            .collect();
-        if let Some(mut short) = short {
-            rank::sort_keys_on(&mut short, threads);
-            return short
-                .iter()
-                .enumerate()
-                .map(|(r, &k)| unbrief(&briefs[rank::score_key_position(k)], rank_of(r)))
-                .collect();
-        }
-    }
-    rank::sort_keys_on(&mut keys, threads);
-    keys.iter()
-        .take_while(|&&k| k != MISSING)
-        .enumerate()
-        .map(|(r, &k)| unbrief(&briefs[rank::position(k)], rank_of(r)))
-        .collect()
 }
 
 /// Evaluates every part of the library for every role of the stage and ranks each role by
@@ -809,18 +930,37 @@ fn ranked_candidates_on(
 /// role keep their checks.
 #[must_use]
 pub fn evaluate(stage: &Stage, needs: &Needs, library: &Library, sort: SortKey) -> Fit {
+    evaluate_with(stage, needs, library, sort, &mut Spare::default())
+}
+
+/// [`evaluate`], working in the memory of `spare` (kept for the next evaluation): the same
+/// fit, sooner when the spare has served a library of this size before.
+#[must_use]
+pub fn evaluate_with(
+    stage: &Stage,
+    needs: &Needs,
+    library: &Library,
+    sort: SortKey,
+    spare: &mut Spare,
+) -> Fit {
     let detail = library.parts.len() <= FULL_DETAIL_PARTS;
+    let plan = checks::Plan::new(stage, needs);
     let roles = roles(stage)
         .into_iter()
         .map(|role| {
             let candidates = if detail {
-                let mut candidates = candidates(stage, needs, library, role);
+                let mut candidates = candidates(&plan, library, role);
                 rank::rank(&mut candidates, library, sort);
                 candidates
             } else {
-                let mut candidates = ranked_candidates(stage, needs, library, role, sort);
+                let mut candidates = ranked_candidates(&plan, library, role, sort, spare);
                 for c in candidates.iter_mut().take(DETAIL_RANKS) {
-                    *c = with_checks(stage, needs, library, role, c);
+                    if let Some(full) = evaluate_part_on(&plan, library, role, c.part) {
+                        *c = Candidate {
+                            rank: c.rank,
+                            ..full
+                        };
+                    }
                 }
                 candidates
             };
@@ -845,7 +985,7 @@ pub fn evaluate(stage: &Stage, needs: &Needs, library: &Library, sort: SortKey) 
                     .filter(|&kind| kind_fits_role(stage, role, kind))
                     .filter_map(|kind| library.parts_of_kind(kind).first());
                 for &i in firsts {
-                    if let Some(c) = evaluate_part(stage, needs, library, role, i as usize) {
+                    if let Some(c) = evaluate_part_on(&plan, library, role, i as usize) {
                         note(&c.checks);
                     }
                 }
@@ -931,29 +1071,104 @@ mod tests {
     #[test]
     fn large_ranking_equals_the_full_one() {
         let library = crate::synthetic::library(6_000, 5).expect("the generated library reads");
+        // One spare for every ranking below: lists of other roles and sort keys in it,
+        // longer and shorter than the next one, never change a result.
+        let mut spare = Spare::default();
         for stage_text in [
             include_str!("../data/stages/door-strike.toml"),
             include_str!("../data/stages/mains-pump-relay.toml"),
         ] {
             let stage = Stage::from_toml(stage_text, "stage.toml").expect("a demo stage");
             let needs = crate::needs::compute(&stage, Some(&library));
+            let plan = checks::Plan::new(&stage, &needs);
             for role in roles(&stage) {
                 for sort in SortKey::ALL {
-                    let mut full = candidates(&stage, &needs, &library, role);
+                    let mut full = candidates(&plan, &library, role);
                     rank::rank(&mut full, &library, sort);
                     for c in &mut full {
                         c.checks = Checks::default();
                     }
                     assert!(!full.is_empty(), "{role:?}");
+                    let mut indices = Vec::new();
+                    role_parts_into(&stage, &library, role, &mut indices);
                     for (threads, piece) in [(1, PIECE), (2, PIECE), (2, 100), (3, 7)] {
-                        let indices = role_parts(&stage, &library, role);
                         let large = ranked_candidates_on(
-                            &stage, &needs, &library, role, &indices, sort, threads, piece,
+                            &plan, &library, role, &indices, sort, threads, piece, &mut spare,
                         );
                         assert_eq!(large, full, "{role:?} by {sort:?}, {threads} threads");
+                        spare.keep(Fit {
+                            roles: vec![RoleFit {
+                                role,
+                                needs: Vec::new(),
+                                candidates: large,
+                            }],
+                        });
                     }
                 }
             }
+        }
+    }
+
+    /// An evaluation in a used spare gives the fit an evaluation in new memory gives, for
+    /// stages whose roles are longer and shorter than the last, and every sort key.
+    #[test]
+    fn a_used_spare_changes_nothing() {
+        let library = crate::synthetic::library(30_000, 3).expect("the generated library reads");
+        let mut spare = Spare::default();
+        for stage_text in [
+            include_str!("../data/stages/door-strike.toml"),
+            include_str!("../data/stages/mains-pump-relay.toml"),
+            include_str!("../data/stages/cabinet-light-sensor.toml"),
+            include_str!("../data/stages/door-strike.toml"),
+        ] {
+            let stage = Stage::from_toml(stage_text, "stage.toml").expect("a demo stage");
+            let needs = crate::needs::compute(&stage, Some(&library));
+            for sort in SortKey::ALL {
+                let fresh = evaluate(&stage, &needs, &library, sort);
+                let reused = evaluate_with(&stage, &needs, &library, sort, &mut spare);
+                assert_eq!(reused, fresh, "by {sort:?}");
+                spare.keep(reused);
+            }
+        }
+    }
+
+    /// A score the 64-bit key cannot hold (a price beyond reason) sorts by the 128-bit key:
+    /// the ranking is still the full one.
+    #[test]
+    fn a_score_beyond_the_narrow_key_ranks_as_the_full_one() {
+        let mut library = crate::synthetic::library(3_000, 9).expect("the generated library reads");
+        let stage = Stage::from_toml(
+            include_str!("../data/stages/door-strike.toml"),
+            "door-strike.toml",
+        )
+        .expect("a demo stage");
+        let dear = library.parts_of_kind(Kind::Npn)[0] as usize;
+        library.parts[dear].price = crate::library::Rating::of(1e300);
+        let needs = crate::needs::compute(&stage, Some(&library));
+        let plan = checks::Plan::new(&stage, &needs);
+        let mut full = candidates(&plan, &library, Role::Switch);
+        rank::rank(&mut full, &library, SortKey::Score);
+        for c in &mut full {
+            c.checks = Checks::default();
+        }
+        assert!(
+            full.iter().any(|c| c.part == dear && c.score < -3276.7),
+            "the dear part scores beyond the narrow key"
+        );
+        let mut indices = Vec::new();
+        role_parts_into(&stage, &library, Role::Switch, &mut indices);
+        for threads in [1, 2] {
+            let large = ranked_candidates_on(
+                &plan,
+                &library,
+                Role::Switch,
+                &indices,
+                SortKey::Score,
+                threads,
+                PIECE,
+                &mut Spare::default(),
+            );
+            assert_eq!(large, full, "{threads} threads");
         }
     }
 }

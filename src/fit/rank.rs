@@ -333,20 +333,113 @@ pub(crate) fn sort_keys(keys: &mut [u128]) {
 }
 
 /// [`sort_keys`] in `threads` shares.
-pub(crate) fn sort_keys_on<K: Ord + Copy + Send>(keys: &mut [K], threads: usize) {
-    if threads <= 1 || keys.len() < 2 {
+pub(crate) fn sort_keys_on<K: Ord + Copy + Send + Sync>(keys: &mut [K], threads: usize) {
+    sort_keys_with(keys, &mut Vec::new(), threads);
+}
+
+/// Sorts keys in `threads` shares, one a thread, then merges the sorted shares pair by pair
+/// through `merged` (memory kept for the next call), each merge on two threads: one writes
+/// the smaller half from the front, the other the larger half from the back.
+pub(crate) fn sort_keys_with<K: Ord + Copy + Send + Sync>(
+    keys: &mut [K],
+    merged: &mut Vec<K>,
+    threads: usize,
+) {
+    let n = keys.len();
+    if threads <= 1 || n < 2 {
         keys.sort_unstable();
         return;
     }
-    let chunk = keys.len().div_ceil(threads);
-    std::thread::scope(|scope| {
-        for share in keys.chunks_mut(chunk) {
-            // Should the system refuse a thread, its share is sorted by the merge below
-            // all the same (the stable sort takes any order, only slower).
-            let _ = std::thread::Builder::new().spawn_scoped(scope, move || share.sort_unstable());
-        }
+    let width = n.div_ceil(threads);
+    let refused = std::thread::scope(|scope| {
+        let spawned: Vec<_> = keys
+            .chunks_mut(width)
+            .map(|share| {
+                std::thread::Builder::new().spawn_scoped(scope, move || share.sort_unstable())
+            })
+            .collect();
+        spawned.into_iter().any(|h| h.is_err())
     });
-    keys.sort();
+    if refused {
+        // The system refused a thread: its share is unsorted; sort the whole list here.
+        keys.sort_unstable();
+        return;
+    }
+    merged.clear();
+    merged.extend_from_slice(keys);
+    let mut run = width;
+    let mut in_keys = true;
+    while run < n {
+        if in_keys {
+            merge_runs(keys, merged, run);
+        } else {
+            merge_runs(merged, keys, run);
+        }
+        in_keys = !in_keys;
+        run *= 2;
+    }
+    if !in_keys {
+        keys.copy_from_slice(merged);
+    }
+}
+
+/// Merges each pair of neighbouring sorted runs of `run` keys of `from` into `to`.
+fn merge_runs<K: Ord + Copy + Send + Sync>(from: &[K], to: &mut [K], run: usize) {
+    for (pair, out) in from.chunks(2 * run).zip(to.chunks_mut(2 * run)) {
+        let (a, b) = pair.split_at(run.min(pair.len()));
+        let (front, back) = out.split_at_mut(out.len() / 2);
+        let both = std::thread::scope(|scope| {
+            let back_half =
+                std::thread::Builder::new().spawn_scoped(scope, || merge_back(a, b, back));
+            merge_front(a, b, front);
+            back_half.is_ok()
+        });
+        if !both {
+            merge_back(a, b, back);
+        }
+    }
+}
+
+/// The smallest `out.len()` keys of the sorted runs `a` and `b`, in order.
+fn merge_front<K: Ord + Copy>(a: &[K], b: &[K], out: &mut [K]) {
+    let (mut i, mut j) = (0, 0);
+    for slot in out {
+        // `out` is no longer than `a` and `b` together, so one of them still has a key.
+        let take_a = match (a.get(i), b.get(j)) {
+            (Some(x), Some(y)) => x <= y,
+            (Some(_), None) => true,
+            _ => false,
+        };
+        if take_a {
+            *slot = a[i];
+            i += 1;
+        } else if let Some(&y) = b.get(j) {
+            *slot = y;
+            j += 1;
+        }
+    }
+}
+
+/// The largest `out.len()` keys of the sorted runs `a` and `b`, in order.
+fn merge_back<K: Ord + Copy>(a: &[K], b: &[K], out: &mut [K]) {
+    let (mut i, mut j) = (a.len(), b.len());
+    for slot in out.iter_mut().rev() {
+        let take_a = match (
+            i.checked_sub(1).map(|i| a[i]),
+            j.checked_sub(1).map(|j| b[j]),
+        ) {
+            (Some(x), Some(y)) => x > y,
+            (Some(_), None) => true,
+            _ => false,
+        };
+        if take_a {
+            i -= 1;
+            *slot = a[i];
+        } else if j > 0 {
+            j -= 1;
+            *slot = b[j];
+        }
+    }
 }
 
 /// Bits of `x` that sort as `x` does, lowest first; missing (or not a number) after all.
@@ -496,13 +589,15 @@ mod tests {
         assert_eq!(key, SortKey::Score);
     }
 
-    /// Keys sorted in shares on several threads and merged come out as one sort gives them.
+    /// Keys sorted in shares on several threads and merged come out as one sort gives them,
+    /// for any length and thread count, with the merge memory used again from call to call
+    /// (and with repeated keys, which ranking never makes, all the same).
     #[test]
     fn keys_sorted_in_shares_equal_one_sort() {
         // A fixed pseudo-random sequence (a 64-bit linear congruential generator, Knuth's
         // MMIX constants): distinct keys, as ranking makes them.
         let mut x: u64 = 7;
-        let mut keys: Vec<u128> = (0..10_000u128)
+        let keys: Vec<u128> = (0..10_000u128)
             .map(|i| {
                 x = x
                     .wrapping_mul(6364136223846793005)
@@ -510,16 +605,29 @@ mod tests {
                 (u128::from(x) << 32) | i
             })
             .collect();
-        let mut expected = keys.clone();
-        expected.sort_unstable();
-        for threads in [1, 2, 3, 8] {
-            let mut shared = keys.clone();
-            sort_keys_on(&mut shared, threads);
-            assert_eq!(shared, expected, "{threads} threads");
+        let repeated: Vec<u64> = keys.iter().map(|&k| (k >> 120) as u64).collect();
+        let mut merged = Vec::new();
+        let mut merged_narrow = Vec::new();
+        for len in [0, 1, 2, 3, 7, 100, 4097, 10_000] {
+            let mut expected = keys[..len].to_vec();
+            expected.sort_unstable();
+            let mut expected_narrow = repeated[..len].to_vec();
+            expected_narrow.sort_unstable();
+            for threads in [1, 2, 3, 8] {
+                let mut shared = keys[..len].to_vec();
+                sort_keys_with(&mut shared, &mut merged, threads);
+                assert_eq!(shared, expected, "{len} keys, {threads} threads");
+                let mut shared = repeated[..len].to_vec();
+                sort_keys_with(&mut shared, &mut merged_narrow, threads);
+                assert_eq!(
+                    shared, expected_narrow,
+                    "{len} repeated keys, {threads} threads"
+                );
+            }
         }
-        keys.truncate(1);
-        sort_keys_on(&mut keys, 2);
-        assert_eq!(keys.len(), 1);
+        let mut one = keys[..1].to_vec();
+        sort_keys_on(&mut one, 2);
+        assert_eq!(one, keys[..1]);
     }
 
     /// 64-bit score keys order as the 128-bit keys they come from, and refuse a score they

@@ -154,6 +154,10 @@ pub struct App {
     /// Every role's ranked candidates; shared with the search workers, which read the
     /// candidates in place rather than a copy of them.
     pub fit: Arc<Fit>,
+    /// The memory evaluations work in, kept across edits, with the fits they replaced: a
+    /// million-part evaluation then asks the system for no new memory. Taken by one
+    /// evaluation at a time; another one meanwhile works in new memory.
+    spare: Arc<std::sync::Mutex<fit::Spare>>,
     /// The focused panel.
     pub panel: Panel,
     /// Index into `fit.roles`.
@@ -251,6 +255,7 @@ impl App {
             dirty: false,
             needs: Needs::default(),
             fit: Arc::new(Fit { roles: Vec::new() }),
+            spare: Arc::default(),
             panel: Panel::Stage,
             role: 0,
             stage_cursor: 1,
@@ -304,15 +309,22 @@ impl App {
             let stage = self.doc.stage.clone();
             let library = std::sync::Arc::clone(&self.library);
             let (worst_case, sort) = (self.worst_case, self.sort);
+            let spare = Arc::clone(&self.spare);
             std::thread::spawn(move || {
-                let (needs, fit) = evaluate(&stage, &library, worst_case, sort);
+                let (needs, fit) = evaluate(&stage, &library, worst_case, sort, &spare);
                 // The workbench may have moved on or ended: a result nobody waits for is dropped.
                 let _ = sender.send((generation, needs, fit));
             });
             self.pending = Some((generation, receiver));
             return;
         }
-        let (needs, fit) = evaluate(&self.doc.stage, &self.library, self.worst_case, self.sort);
+        let (needs, fit) = evaluate(
+            &self.doc.stage,
+            &self.library,
+            self.worst_case,
+            self.sort,
+            &self.spare,
+        );
         self.apply(needs, fit);
     }
 
@@ -442,7 +454,14 @@ impl App {
     fn apply(&mut self, needs: Needs, fit: Fit) {
         self.needs = needs;
         self.fit_counts = fit.roles.iter().map(fit::RoleFit::fits).collect();
-        self.fit = Arc::new(fit);
+        let old = std::mem::replace(&mut self.fit, Arc::new(fit));
+        // The replaced fit's memory serves the next evaluation, unless a search still reads
+        // it or an evaluation holds the spare (then it is simply let go).
+        if let Some(old) = Arc::into_inner(old)
+            && let Ok(mut spare) = self.spare.try_lock()
+        {
+            spare.keep(old);
+        }
         // Candidate positions change with a new fit: the next filter starts from all of them,
         // and the list on screen points at the old ones.
         self.last_filter = None;
@@ -1356,13 +1375,18 @@ fn evaluate(
     library: &Library,
     worst_case: bool,
     sort: SortKey,
+    spare: &std::sync::Mutex<fit::Spare>,
 ) -> (Needs, Fit) {
     let needs = if worst_case {
         needs::compute_both(stage, Some(library)).worst
     } else {
         needs::compute_nominal(stage, Some(library))
     };
-    let fit = fit::evaluate(stage, &needs, library, sort);
+    let fit = match spare.try_lock() {
+        Ok(mut spare) => fit::evaluate_with(stage, &needs, library, sort, &mut spare),
+        // Another evaluation works in the spare (or one ended without giving it back).
+        Err(_) => fit::evaluate(stage, &needs, library, sort),
+    };
     (needs, fit)
 }
 
