@@ -623,6 +623,54 @@ fn unbrief(b: &Brief, rank: u32) -> Candidate {
     }
 }
 
+/// What a candidate list holds where a candidate is yet to be written.
+const UNFILLED: Candidate = Candidate {
+    part: 0,
+    verdict: Verdict::Short,
+    checks: Checks(None),
+    score: 0.0,
+    headroom: None,
+    rank: 0,
+};
+
+/// Writes the candidates of the sorted `keys` into `list` in rank order, each from the brief
+/// at the key's `position`, `threads` threads each writing its stretch of the list.
+fn fill_in_rank_order<K: Copy + Sync>(
+    list: &mut [Candidate],
+    keys: &[K],
+    briefs: &[Brief],
+    position: impl Fn(K) -> usize + Sync,
+    threads: usize,
+) {
+    let fill = |first: usize, list: &mut [Candidate], keys: &[K]| {
+        for (r, (slot, &k)) in list.iter_mut().zip(keys).enumerate() {
+            // Ranks stay below `limits::MAX_ROWS`, well inside u32; every position is a
+            // brief's (the keys were made with them).
+            *slot = unbrief(&briefs[position(k)], (first + r) as u32 + 1);
+        }
+    };
+    let width = list.len().div_ceil(threads.max(1)).max(1);
+    let fill = &fill;
+    let refused = std::thread::scope(|scope| {
+        let mut stretches = list.chunks_mut(width).zip(keys.chunks(width)).enumerate();
+        let here = stretches.next();
+        let others: Vec<_> = stretches
+            .map(|(s, (list, keys))| {
+                std::thread::Builder::new().spawn_scoped(scope, move || fill(s * width, list, keys))
+            })
+            .collect();
+        if let Some((_, (list, keys))) = here {
+            fill(0, list, keys);
+        }
+        others.into_iter().any(|h| h.is_err())
+    });
+    if refused {
+        // The system refused a thread: its stretch is written here instead (all of them
+        // again, which gives the same list).
+        fill(0, list, keys);
+    }
+}
+
 fn verdict_of_group(bits: u64) -> Verdict {
     match bits & 0xff {
         0 => Verdict::Fits,
@@ -664,15 +712,13 @@ impl Spare {
         }
     }
 
-    /// An empty list that holds `n` candidates: the smallest kept one that does, or the
-    /// largest kept one grown.
+    /// A list of `n` candidates to overwrite: the smallest kept list that holds them, or the
+    /// largest kept one grown. Its old candidates stay until overwritten, so that the threads
+    /// that write the new ones also let the old ones go.
     fn list(&mut self, n: usize) -> Vec<Candidate> {
         for fit in self.fits.drain(..) {
-            for role in fit.roles {
-                let mut list = role.candidates;
-                list.clear();
-                self.lists.push(list);
-            }
+            self.lists
+                .extend(fit.roles.into_iter().map(|role| role.candidates));
         }
         self.lists.sort_by_key(Vec::capacity);
         let at = self
@@ -681,7 +727,8 @@ impl Spare {
             .position(|l| l.capacity() >= n)
             .or_else(|| self.lists.len().checked_sub(1));
         let mut list = at.map_or_else(Vec::new, |at| self.lists.swap_remove(at));
-        list.reserve(n);
+        list.truncate(n);
+        list.resize(n, UNFILLED);
         list
     }
 }
@@ -750,8 +797,6 @@ fn ranked_candidates_on(
     // Every brief is written by the evaluation: only new room needs a value.
     briefs.resize(n, NO_PART);
     let mut list = spare.list(n);
-    // Ranks stay below `limits::MAX_ROWS`, well inside u32.
-    let rank_of = |r: usize| r as u32 + 1;
     let wide_key = |c: &Candidate, part: Option<&Part>, at: usize| {
         rank::sort_key(
             sort, order, c.part, part, c.verdict, c.score, c.headroom, at,
@@ -781,11 +826,8 @@ fn ranked_candidates_on(
             wide = true;
         } else {
             rank::sort_keys_with(&mut keys, &mut spare.score_merged, threads);
-            list.extend(
-                keys.iter()
-                    .enumerate()
-                    .map(|(r, &k)| unbrief(&briefs[rank::score_key_position(k)], rank_of(r))),
-            );
+            let position = rank::score_key_position;
+            fill_in_rank_order(&mut list, &keys, &briefs, position, threads);
         }
         spare.score_keys = keys;
     }
@@ -818,12 +860,10 @@ fn ranked_candidates_on(
             );
         }
         rank::sort_keys_with(&mut keys, &mut spare.merged, threads);
-        list.extend(
-            keys.iter()
-                .take_while(|&&k| k != MISSING)
-                .enumerate()
-                .map(|(r, &k)| unbrief(&briefs[rank::position(k)], rank_of(r))),
-        );
+        // Parts the library does not have sort last, and are left out.
+        let there = keys.partition_point(|&k| k != MISSING);
+        list.truncate(there);
+        fill_in_rank_order(&mut list, &keys[..there], &briefs, rank::position, threads);
         spare.keys = keys;
     }
     spare.briefs = briefs;

@@ -304,7 +304,7 @@ pub(crate) fn position(key: u128) -> usize {
 /// score does), place (23) and position (23). Half the bytes to sort; `None` for a score
 /// outside ±3276.7 (a price beyond reason), which the 128-bit key sorts instead.
 pub(crate) fn score_key(key: u128, score: f64) -> Option<u64> {
-    let tenths = (score * 10.0).round();
+    let tenths = round_half_away(score * 10.0);
     if !(-32767.0..=32767.0).contains(&tenths) {
         return None;
     }
