@@ -439,7 +439,6 @@ fn derated(pd: f64, tj_max: Option<f64>, ambient: f64) -> f64 {
 }
 
 /// The thermal checks of a switch dissipating `dissipation` at the plan's ambient.
-#[allow(clippy::too_many_arguments)]
 fn power_checks<const DETAIL: bool>(
     plan: &Plan,
     dissipation: Option<f64>,
@@ -922,10 +921,8 @@ fn part_rules<const DETAIL: bool>(plan: &Plan, part: &Part, checks: &mut Out<DET
             .tally
             .count(ids_part::STOCK, verdict, headroom, Some(quantity));
     }
-    // A photocell's notes and tags are read only for photocells.
-    let cadmium = part.kind == Kind::Photocell && is_cadmium_cell(part);
     if stage.rules.require_rohs {
-        let (verdict, note) = if cadmium {
+        let (verdict, note) = if is_cadmium_cell(part) {
             (
                 CheckVerdict::Short,
                 "CdS photocell: cadmium above 0.01 % (EU RoHS 2011/65/EU Annex II); the photoresistor exemption expired at the end of 2013",
@@ -938,7 +935,9 @@ fn part_rules<const DETAIL: bool>(plan: &Plan, part: &Part, checks: &mut Out<DET
             }
         };
         checks.rule(ids_part::ROHS, "rohs", verdict, note);
-    } else if DETAIL && (cadmium || (part.kind == Kind::Photocell && part.rohs == Some(false))) {
+    } else if DETAIL
+        && (is_cadmium_cell(part) || (part.kind == Kind::Photocell && part.rohs == Some(false)))
+    {
         // Not a rule of this stage, but a purchaser must know.
         if let Some(last) = checks.last_mut() {
             let note = "note: a CdS photocell is not RoHS compliant (cadmium, 2011/65/EU Annex II)";

@@ -320,8 +320,8 @@ pub(crate) fn score_key_position(key: u64) -> usize {
     (key & ((1 << BITS) - 1)) as usize
 }
 
-/// Sorts distinct keys: a long list in one share a core, then the sorted shares merged (the
-/// standard stable sort merges runs it finds already in order, in one pass).
+/// Sorts distinct keys: a long list in one share a core, then the sorted shares merged pair
+/// by pair (see [`sort_keys_with`]).
 pub(crate) fn sort_keys(keys: &mut [u128]) {
     const SHARED_FROM: usize = 50_000;
     let threads = if keys.len() < SHARED_FROM {
@@ -339,7 +339,9 @@ pub(crate) fn sort_keys_on<K: Ord + Copy + Send + Sync>(keys: &mut [K], threads:
 
 /// Sorts keys in `threads` shares, one a thread, then merges the sorted shares pair by pair
 /// through `merged` (memory kept for the next call), each merge on two threads: one writes
-/// the smaller half from the front, the other the larger half from the back.
+/// the smaller half from the front, the other the larger half from the back. The pairs are
+/// merged one after the other, so the merging uses two cores however many there are (the
+/// machines loadfit is measured on have two).
 pub(crate) fn sort_keys_with<K: Ord + Copy + Send + Sync>(
     keys: &mut [K],
     merged: &mut Vec<K>,
@@ -400,44 +402,51 @@ fn merge_runs<K: Ord + Copy + Send + Sync>(from: &[K], to: &mut [K], run: usize)
     }
 }
 
-/// The smallest `out.len()` keys of the sorted runs `a` and `b`, in order.
+/// The smallest `out.len()` keys of the sorted runs `a` and `b`, in order (`out` is no
+/// longer than the two together).
 fn merge_front<K: Ord + Copy>(a: &[K], b: &[K], out: &mut [K]) {
     let (mut i, mut j) = (0, 0);
     for slot in out {
-        // `out` is no longer than `a` and `b` together, so one of them still has a key.
-        let take_a = match (a.get(i), b.get(j)) {
-            (Some(x), Some(y)) => x <= y,
-            (Some(_), None) => true,
-            _ => false,
-        };
-        if take_a {
-            *slot = a[i];
-            i += 1;
-        } else if let Some(&y) = b.get(j) {
-            *slot = y;
-            j += 1;
+        match (a.get(i), b.get(j)) {
+            (Some(&x), Some(&y)) if x <= y => {
+                *slot = x;
+                i += 1;
+            }
+            (Some(&x), None) => {
+                *slot = x;
+                i += 1;
+            }
+            (_, Some(&y)) => {
+                *slot = y;
+                j += 1;
+            }
+            (None, None) => break,
         }
     }
 }
 
-/// The largest `out.len()` keys of the sorted runs `a` and `b`, in order.
+/// The largest `out.len()` keys of the sorted runs `a` and `b`, in order (`out` is no longer
+/// than the two together).
 fn merge_back<K: Ord + Copy>(a: &[K], b: &[K], out: &mut [K]) {
+    // `i` and `j` count the keys of `a` and `b` not yet taken, from the front.
     let (mut i, mut j) = (a.len(), b.len());
     for slot in out.iter_mut().rev() {
-        let take_a = match (
-            i.checked_sub(1).map(|i| a[i]),
-            j.checked_sub(1).map(|j| b[j]),
-        ) {
-            (Some(x), Some(y)) => x > y,
-            (Some(_), None) => true,
-            _ => false,
-        };
-        if take_a {
-            i -= 1;
-            *slot = a[i];
-        } else if j > 0 {
-            j -= 1;
-            *slot = b[j];
+        let last_a = i.checked_sub(1).and_then(|i| a.get(i));
+        let last_b = j.checked_sub(1).and_then(|j| b.get(j));
+        match (last_a, last_b) {
+            (Some(&x), Some(&y)) if x > y => {
+                *slot = x;
+                i -= 1;
+            }
+            (Some(&x), None) => {
+                *slot = x;
+                i -= 1;
+            }
+            (_, Some(&y)) => {
+                *slot = y;
+                j -= 1;
+            }
+            (None, None) => break,
         }
     }
 }
@@ -605,7 +614,8 @@ mod tests {
                 (u128::from(x) << 32) | i
             })
             .collect();
-        let repeated: Vec<u64> = keys.iter().map(|&k| (k >> 120) as u64).collect();
+        // A byte of each key: 256 values, so every value repeats some 40 times.
+        let repeated: Vec<u64> = keys.iter().map(|&k| ((k >> 88) & 0xff) as u64).collect();
         let mut merged = Vec::new();
         let mut merged_narrow = Vec::new();
         for len in [0, 1, 2, 3, 7, 100, 4097, 10_000] {

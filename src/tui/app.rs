@@ -155,8 +155,9 @@ pub struct App {
     /// candidates in place rather than a copy of them.
     pub fit: Arc<Fit>,
     /// The memory evaluations work in, kept across edits, with the fits they replaced: a
-    /// million-part evaluation then asks the system for no new memory. Taken by one
-    /// evaluation at a time; another one meanwhile works in new memory.
+    /// million-part evaluation then reuses its large lists instead of asking the system for
+    /// them again. Taken by one evaluation at a time; another one meanwhile works in new
+    /// memory.
     spare: Arc<std::sync::Mutex<fit::Spare>>,
     /// The focused panel.
     pub panel: Panel,
