@@ -694,9 +694,8 @@ fn verdict_of_group(bits: u64) -> Verdict {
 /// Memory a large evaluation works in, kept from one evaluation to the next: the lists of
 /// briefs and sort keys, and the candidate lists of fits given back with [`Spare::keep`].
 /// At a million parts an evaluation fills some 60 MB; memory the system hands out afresh
-/// costs a fault a page (on the workbench's worker threads, about a thousand an edit), and
-/// `cargo bench --bench fit` measures 69–76 ms an edit with a spare against 80–83 ms without.
-/// The workbench keeps one across edits; an evaluation without one ([`evaluate`]) starts
+/// costs a fault a page (on the workbench's worker threads, about a thousand an edit; the
+/// README's performance section has the timings with and without). The workbench keeps one across edits; an evaluation without one ([`evaluate`]) starts
 /// from empty memory. What is in it never
 /// changes a result (a test evaluates with a used one and a new one).
 #[derive(Debug, Default)]
