@@ -267,9 +267,7 @@ impl<'a> Plan<'a> {
             quantity: f64::from(stage.rules.quantity.max(1)),
         }
     }
-}
 
-impl Plan<'_> {
     /// The stage the plan is of.
     #[must_use]
     pub fn stage(&self) -> &Stage {
