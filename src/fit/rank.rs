@@ -322,7 +322,7 @@ pub(crate) fn score_key_position(key: u64) -> usize {
 
 /// Sorts distinct keys: a long list in one share a core, then the sorted shares merged pair
 /// by pair (see [`sort_keys_with`]).
-pub(crate) fn sort_keys(keys: &mut [u128]) {
+pub(crate) fn sort_keys(keys: &mut Vec<u128>) {
     const SHARED_FROM: usize = 50_000;
     let threads = if keys.len() < SHARED_FROM {
         1
@@ -333,7 +333,7 @@ pub(crate) fn sort_keys(keys: &mut [u128]) {
 }
 
 /// [`sort_keys`] in `threads` shares.
-pub(crate) fn sort_keys_on<K: Ord + Copy + Send + Sync>(keys: &mut [K], threads: usize) {
+pub(crate) fn sort_keys_on<K: Ord + Copy + Send + Sync>(keys: &mut Vec<K>, threads: usize) {
     sort_keys_with(keys, &mut Vec::new(), threads);
 }
 
@@ -343,7 +343,7 @@ pub(crate) fn sort_keys_on<K: Ord + Copy + Send + Sync>(keys: &mut [K], threads:
 /// merged one after the other, so the merging uses two cores however many there are (the
 /// machines loadfit is measured on have two).
 pub(crate) fn sort_keys_with<K: Ord + Copy + Send + Sync>(
-    keys: &mut [K],
+    keys: &mut Vec<K>,
     merged: &mut Vec<K>,
     threads: usize,
 ) {
@@ -367,8 +367,10 @@ pub(crate) fn sort_keys_with<K: Ord + Copy + Send + Sync>(
         keys.sort_unstable();
         return;
     }
-    merged.clear();
-    merged.extend_from_slice(keys);
+    // Every place of `merged` is written by the first merge: only new room needs a value
+    // (any key will do; there are at least two).
+    merged.truncate(n);
+    merged.resize(n, keys[0]);
     let mut run = width;
     let mut in_keys = true;
     while run < n {
@@ -381,7 +383,8 @@ pub(crate) fn sort_keys_with<K: Ord + Copy + Send + Sync>(
         run *= 2;
     }
     if !in_keys {
-        keys.copy_from_slice(merged);
+        // The sorted keys are in the merge memory: the two lists trade places.
+        std::mem::swap(keys, merged);
     }
 }
 
